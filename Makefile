@@ -1,0 +1,27 @@
+# Two set-up commands: `make demo` and `make test`. Each creates .venv on first use.
+PYTHON ?= python3
+VENV ?= .venv
+PY := $(VENV)/bin/python
+OUT ?= out/demo
+
+.PHONY: demo test lint bench clean
+
+$(VENV)/.installed: pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test,notebook,reference]'
+	touch $@
+
+demo: $(VENV)/.installed
+	$(PY) -m vpkit analyze data/demo/*.csv --out $(OUT)
+	@echo "Demo outputs (figures, tables, summaries) are in $(OUT)/"
+
+test: $(VENV)/.installed
+	$(PY) -m ruff check vpkit tests benchmarks data
+	$(PY) -m pytest -q
+
+bench: $(VENV)/.installed
+	$(PY) benchmarks/bench_core.py
+
+clean:
+	rm -rf $(VENV) out .pytest_cache

@@ -1,0 +1,71 @@
+"""Reduction steps, checked against hand calculations of the published laws
+(ideal gas, Dalton, hydrostatics; constants CODATA 2018 / CIPM-2007)."""
+
+import numpy as np
+import pytest
+from uncertainties import ufloat
+
+from vpkit import reduce as rd
+
+R = 8.314462618
+
+
+def test_ideal_gas_and_dalton_by_hand():
+    n = 100000.0 * 2e-6 / (R * 295.0)  # 2 mL of air at 100 kPa and 295 K
+    assert rd.air_amount(100000.0, 0.0, 2e-6, 295.0) == pytest.approx(n, rel=1e-14)
+    p_air = rd.air_partial_pressure(n, 3e-6, 330.0)
+    assert p_air == pytest.approx(100000.0 * (2 / 3) * (330 / 295), rel=1e-14)
+    assert rd.vapor_pressure(100000.0, p_air) == pytest.approx(100000.0 - p_air)
+
+
+def test_weighing_and_scale_both_directions():
+    # 1.6 g of liquid of 800 kg/m3 displaced -> 2 mL, ignoring the gas mass
+    V = rd.room_gas_volume(0.0300, 0.0284, 800.0)
+    assert V == pytest.approx(2.0e-6, rel=1e-12)
+    off = rd.scale_offset(V, 1.85e-6, +1)
+    assert rd.bubble_volume(1.85e-6, off, +1) == pytest.approx(V)
+    off_open = rd.scale_offset(V, 8.0e-6, -1)  # graduated from the open end
+    assert off_open == pytest.approx(10.0e-6)
+    assert rd.bubble_volume(7.0e-6, off_open, -1) == pytest.approx(3.0e-6)
+
+
+def test_gas_mass_in_weighing():
+    # air at 100 kPa, 295 K: rho = P M/(R T) = 1.181 kg/m3 (M = 28.96546 g/mol)
+    rho_gas = rd.gas_density(100000.0, 295.0)
+    assert rho_gas == pytest.approx(100000 * 0.02896546 / (R * 295.0), rel=1e-14)
+    V = rd.room_gas_volume(0.0300, 0.0284, 800.0, rho_gas)
+    assert V == pytest.approx(0.0016 / (800.0 - rho_gas))
+
+
+def test_hydrostatic_head():
+    assert rd.total_pressure(100000.0, 0.1, 1000.0) == pytest.approx(100000 + 980.665)
+
+
+def test_functions_accept_uncertain_numbers():
+    n = rd.air_amount(ufloat(100000.0, 100.0), 0.0, 2e-6, 295.0)
+    p = rd.vapor_pressure(100000.0, rd.air_partial_pressure(n, 3e-6, 330.0))
+    assert p.std_dev > 0
+
+
+def test_chain_matches_steps():
+    x = {"T": np.array([[300.0, 320.0]]), "reading": np.array([[2.0e-6, 2.6e-6]]),
+         "P": np.array([[100000.0, 100000.0]]), "P_bar": np.array([100000.0]),
+         "T_room": np.array([295.0]), "room_reading": np.array([1.9e-6]),
+         "mass_before": np.array([0.030]), "mass_after": np.array([0.0284]),
+         "density": np.array([800.0])}
+    setup = rd.ReductionSetup(air_from="weighed", gas_mass=False)
+    out = rd.reduce_chain(x, setup, np.array([2000.0]))
+    V_room = 2.0e-6
+    n = (100000.0 - 2000.0) * V_room / (R * 295.0)
+    V = V_room - 1.9e-6 + np.array([2.0e-6, 2.6e-6])
+    np.testing.assert_allclose(out["p_vap"][0], 100000.0 - n * R * np.array([300, 320]) / V)
+
+
+def test_flags_never_drop_points():
+    flags = rd.point_flags([300.0, 310.0, 320.0], [2e-6, 1.9e-6, 3e-6],
+                           [1e5, 1e5, 1e5], [-5.0, 100.0, 2e5], T_boil=315.0)
+    assert len(flags) == 3
+    assert "vapor pressure <= 0" in flags[0][0]
+    assert any("smaller than at a lower" in f for f in flags[1])
+    assert any(">= total pressure" in f for f in flags[2])
+    assert any("boiling point" in f for f in flags[2])

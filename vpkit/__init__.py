@@ -1,0 +1,34 @@
+"""vpkit: vapor pressures, enthalpy of vaporization and boiling points from
+trapped-bubble readings.
+
+Typical use::
+
+    import vpkit
+    run = vpkit.read_run("data/demo/fresh_2-propanol.csv")
+    result = vpkit.analyze(run)
+    print(result.summary())
+    result.figure().savefig("run.png", dpi=300)
+"""
+
+from .analysis import Analysis, analyze
+from .errors import (
+    FitError,
+    ImpossibleDataError,
+    InputError,
+    RunFileError,
+    UnitError,
+    VpkitError,
+    VpkitWarning,
+)
+from .fit import FitResult, fit_points
+from .reference import compare_to_reference, liquids, reference_curve
+from .run import Entry, Run, format_run, parse_run, read_run, write_run
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "Analysis", "Entry", "FitError", "FitResult", "ImpossibleDataError", "InputError", "Run",
+    "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
+    "fit_points", "format_run", "liquids", "parse_run", "read_run", "reference_curve",
+    "write_run",
+]

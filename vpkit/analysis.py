@@ -1,0 +1,437 @@
+"""The whole job for one run: :func:`analyze` -> :class:`Analysis`.
+
+Reads the run's SI view, reduces readings to vapor pressures, propagates the
+input uncertainties (keeping the correlations that shared inputs create),
+fits the chosen model, compares with the published reference equation and
+collects every warning. Tables, the summary text and the figure are views of
+the frozen result.
+
+References
+----------
+See :mod:`vpkit.reduce`, :mod:`vpkit.propagate`, :mod:`vpkit.fit` and
+:mod:`vpkit.reference` for the equations and their sources.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import uncertainties
+
+from . import reference as refmod
+from .constants import P_STANDARD
+from .errors import FitError, InputError
+from .fit import FitResult, _solve, _whitener, fit_points, get_model
+from .propagate import InputVector, build_inputs, central_jacobian, evaluate, step_sizes
+from .reduce import AIR_METHODS, VAPOR_AT_AIR_REFERENCE, ReductionSetup, point_flags
+from .run import Run, RunSI, read_run
+
+AIR_REFERENCE_REASON = "used for the air amount (cold reference)"
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """Everything :func:`analyze` found for one run (frozen).
+
+    Attributes
+    ----------
+    run : Run
+        The run as entered (never modified).
+    options : dict
+        The choices made (model, weighting, air_from, ...).
+    T, V, P_total, p_air, p_vap : ndarray
+        Per point, SI.
+    u_p_vap : ndarray
+        Standard uncertainty of p_vap [Pa].
+    cov_ln_p : ndarray
+        Covariance of ln p_vap between points.
+    n_air : float
+        Air amount [mol]; ``p_ref`` the vapor pressure taken at the air
+        reference temperature [Pa].
+    include : ndarray of bool
+        Points in the fit; ``reasons`` why the others are not.
+    flags : tuple of tuple of str
+        Per point, plain-language flags (never removed silently).
+    fit : FitResult
+    comparison : ReferenceComparison or None
+    warnings : tuple of str
+    """
+
+    run: Run
+    options: Mapping[str, object]
+    T: np.ndarray
+    V: np.ndarray
+    P_total: np.ndarray
+    p_air: np.ndarray
+    p_vap: np.ndarray
+    u_p_vap: np.ndarray
+    cov_ln_p: np.ndarray
+    n_air: float
+    p_ref: float
+    include: np.ndarray
+    reasons: tuple[str, ...]
+    flags: tuple[tuple[str, ...], ...]
+    fit: FitResult
+    comparison: refmod.ReferenceComparison | None
+    warnings: tuple[str, ...]
+    inputs: InputVector = field(repr=False)
+    jacobian: np.ndarray = field(repr=False)
+    si: RunSI = field(repr=False)
+
+    # -- headline numbers ---------------------------------------------------
+    @property
+    def enthalpy(self):
+        """ΔH_vap at T_m with uncertainty [J/mol]."""
+        return self.fit.enthalpy
+
+    @property
+    def T_m(self) -> float:
+        return self.fit.T_m
+
+    def boiling_point(self, pressure=P_STANDARD):
+        """Predicted boiling point [K] at ``pressure`` [Pa] with uncertainty."""
+        return self.fit.boiling_point(pressure)
+
+    @property
+    def measured_boiling_point(self):
+        if self.si.T_boil is None:
+            return None
+        return uncertainties.ufloat(self.si.T_boil, self.si.u["T_boil"])
+
+    def p_vap_correlated(self):
+        """Vapor pressures as correlated ``uncertainties`` numbers [Pa]."""
+        cov = self.cov_ln_p * np.outer(self.p_vap, self.p_vap)
+        return uncertainties.correlated_values(list(self.p_vap), cov)
+
+    # -- views ------------------------------------------------------------
+    def points(self):
+        """Per-point table (pandas), units in the column names."""
+        from .report import points_table
+
+        return points_table(self)
+
+    def results(self):
+        """One-row results table (pandas), units in the column names."""
+        from .report import results_table
+
+        return results_table(self)
+
+    def summary(self) -> str:
+        """Markdown summary of the run's results."""
+        from .report import summary_markdown
+
+        return summary_markdown(self)
+
+    def figure(self, width_mm: float = 85.0, **kwargs):
+        """Report figure (matplotlib Figure); see :func:`vpkit.plots.run_figure`."""
+        from .plots import run_figure
+
+        return run_figure(self, width_mm=width_mm, **kwargs)
+
+    def with_choices(self, **changes) -> Analysis:
+        """Analyse the same run again with some choices changed."""
+        opts = dict(self.options)
+        opts.update(changes)
+        return analyze(self.run, **opts)
+
+    def air_method_shifts(self) -> dict[str, float]:
+        """ΔH_vap [J/mol] under each other workable air-amount choice (nominal fits)."""
+        out = {}
+        here = (self.options["air_from"], self.options["vapor_at_air_reference"])
+        for air in AIR_METHODS:
+            for vap in (VAPOR_AT_AIR_REFERENCE if air != "injected" else ("neglect",)):
+                if (air, vap) == here:
+                    continue
+                try:
+                    other = self.with_choices(air_from=air, vapor_at_air_reference=vap)
+                except (InputError, FitError):
+                    continue
+                out[f"{air}/{vap}"] = other.enthalpy.nominal_value
+        return out
+
+
+def _exclusions(exclude, n) -> dict[int, str]:
+    if exclude is None:
+        return {}
+    if isinstance(exclude, Mapping):
+        items = exclude.items()
+    else:
+        items = ((i, "excluded by the user") for i in exclude)
+    out = {}
+    for i, why in items:
+        i = int(i)
+        if not 0 <= i < n:
+            raise InputError(f"cannot exclude point {i}: the run has points 0 to {n - 1}",
+                             column="exclude", hint="count points from 0 in file order")
+        out[i] = str(why) if why else "excluded by the user"
+    return out
+
+
+def analyze(
+    run: Run | str | Path,
+    *,
+    model: str = "clausius_clapeyron",
+    weighting: str = "gls",
+    air_from: str = "weighed",
+    vapor_at_air_reference: str = "auto",
+    cold_index: int | None = None,
+    use_head: bool = True,
+    gas_mass: bool = True,
+    exclude: Mapping[int, str] | Iterable[int] | None = None,
+    reference: str | None = "auto",
+    temperature_errors: bool = True,
+) -> Analysis:
+    """Reduce, propagate, fit and compare one run.
+
+    Parameters
+    ----------
+    run : Run or path
+    model : {"clausius_clapeyron", "constant_dcp", "antoine"}
+    weighting : {"gls", "weighted", "ordinary"}
+    air_from : {"weighed", "cold", "injected"}
+        Air amount from the weighed room-temperature volume, from the cold
+        reference reading (the coldest point unless ``cold_index``), or from
+        the injected volume (METHOD 2.3).
+    vapor_at_air_reference : {"auto", "reference", "fit", "neglect"}
+        p_vap at the air-reference temperature: from the published equation,
+        self-consistent with the fitted curve, or neglected. "auto" takes the
+        published equation when the liquid has one, else "fit". The
+        self-consistent choice extrapolates the fitted model to the air
+        reference temperature; near room temperature that amplifies both
+        noise and any model error (for 25-60 degC data and a room-temperature
+        weighing, about a factor 100), so it is the fallback, not the default.
+    use_head : bool
+        Add the hydrostatic head of ``bubble_depth`` when the run gives one.
+    gas_mass : bool
+        Count the trapped gas's mass in the weighing.
+    exclude : mapping index -> reason, or iterable of indices
+        Points to leave out of the fit, on top of the run's own flags.
+    reference : {"auto", "antoine", "iapws95"} or None
+        Reference equation for the comparison (None: no comparison).
+    temperature_errors : bool
+        Fold the thermometer's uncertainty into the fit (effective variance).
+
+    Returns
+    -------
+    Analysis
+    """
+    if not isinstance(run, Run):
+        run = read_run(run)
+    si = run.to_si()
+    n = len(si.T)
+    get_model(model)
+    if air_from not in AIR_METHODS:
+        raise InputError(f"air_from must be one of {', '.join(AIR_METHODS)}, got {air_from!r}",
+                         column="air_from")
+    if vapor_at_air_reference == "auto":
+        vapor_at_air_reference = "reference" if refmod.has_reference(si.liquid) else "fit"
+    if vapor_at_air_reference not in VAPOR_AT_AIR_REFERENCE:
+        raise InputError("vapor_at_air_reference must be one of "
+                         f"{', '.join(VAPOR_AT_AIR_REFERENCE)}, got {vapor_at_air_reference!r}",
+                         column="vapor_at_air_reference")
+    options = dict(model=model, weighting=weighting, air_from=air_from,
+                   vapor_at_air_reference=vapor_at_air_reference, cold_index=cold_index,
+                   use_head=use_head, gas_mass=gas_mass,
+                   exclude=None if exclude is None else dict(_exclusions(exclude, n)),
+                   reference=reference, temperature_errors=temperature_errors)
+    warn: list[str] = []
+
+    curve = None
+    if reference is not None and refmod.has_reference(si.liquid):
+        curve = refmod.reference_curve(si.liquid, reference)
+    elif reference is not None:
+        warn.append(f"no reference equation for {si.liquid!r}: no comparison made")
+
+    if si.density is not None:
+        density = si.density
+    else:
+        if not refmod.has_reference(si.liquid):
+            raise InputError(f"liquid_density is 'reference' but {si.liquid!r} has no "
+                             "bundled density", file=run.source, column="liquid_density",
+                             hint="enter the measured density")
+        density = float(refmod.liquid_density(si.liquid, si.T_room))
+
+    weighing = si.mass_before is not None
+    if air_from == "injected" and si.V_injected is None:
+        raise InputError("air_from='injected' needs injected_air_volume", file=run.source,
+                         column="injected_air_volume", hint="add it, or use air_from='weighed'")
+    if air_from == "weighed" and si.room_reading is None:
+        raise InputError("air_from='weighed' needs room_reading", file=run.source,
+                         column="room_reading", hint="add the reading taken at the weighing")
+    if cold_index is None:
+        cold_index = int(np.argmin(si.T))
+    if (air_from != "injected" and vapor_at_air_reference == "reference"
+            and not refmod.has_reference(si.liquid)):
+        raise InputError("vapor_at_air_reference='reference' needs a reference equation",
+                         column="vapor_at_air_reference", hint="use 'fit' or 'neglect'")
+    setup = ReductionSetup(air_from=air_from, vapor_at_air_reference=vapor_at_air_reference,
+                           cold_index=cold_index, offset_from_weighing=weighing,
+                           direction=si.direction, use_head=use_head, gas_mass=gas_mass)
+
+    # which points are fitted, and why not
+    include = si.include.copy()
+    reasons = list(si.reason)
+    for i, why in _exclusions(exclude, n).items():
+        include[i] = False
+        reasons[i] = why
+    if air_from == "cold":
+        include[cold_index] = False
+        reasons[cold_index] = AIR_REFERENCE_REASON
+
+    iv = build_inputs(si, setup, density)
+    u0 = iv.nominal[None, :]
+    steps = step_sizes(iv)
+    mode = "none" if air_from == "injected" else vapor_at_air_reference
+    if mode == "reference":
+        p_ref_of = (curve or refmod.reference_curve(si.liquid)).p
+    else:
+        p_ref_of = None
+
+    def batch(U, p_ref):
+        out = evaluate(iv, si, setup, U, p_ref if p_ref_of is None else p_ref_of)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            lnp = np.log(out["p_vap"])
+        return out, lnp
+
+    m = get_model(model)
+
+    def fixed_weight_fit(Winv, inc, p_ref):
+        out, lnp = batch(u0, np.array([p_ref]))
+        if not np.all(np.isfinite(lnp[0, inc])):
+            return None
+        th = _solve(m, out["T"][0, inc], lnp[0, inc], Winv, fit.params, "ln_p")
+        return float(np.exp(m.f(out["T_ref"][0], th)))
+
+    p_ref = 0.0
+    if mode == "fit" and curve is not None:
+        p_ref = float(curve.p(air_ref_T(si, setup)))
+    fit = None
+    for _round in range(3 if mode == "fit" else 1):
+        if mode == "fit" and fit is not None:
+            Winv = (_whitener(fit.residual_cov) if fit.residual_cov is not None
+                    else np.eye(int(fit.include.sum())))
+            p_ref = _solve_p_ref(fixed_weight_fit, Winv, fit.include, si, p_ref)
+        out, lnp = batch(u0, np.array([p_ref]))
+        flags = point_flags(si.T, out["V"][0], out["P_total"][0], out["p_vap"][0],
+                            si.T_boil)
+        fit_inc = include.copy()
+        fit_reasons = list(reasons)
+        for i in range(n):
+            if fit_inc[i] and not np.isfinite(lnp[0, i]):
+                fit_inc[i] = False
+                fit_reasons[i] = "impossible: " + flags[i][0] if flags[i] else "impossible"
+        # linear propagation: derivative of [ln p, T] with respect to inputs (and p_ref)
+        J, J_pref = _jacobian(batch, iv, steps, p_ref, n)
+        if mode == "fit":
+            J = _implicit_correction(J, J_pref, fit, m, si, setup, iv, n, batch, p_ref,
+                                     fit_inc) if fit is not None else J
+        Sigma = iv.sigma**2
+        Jy, JT = J[:n], J[n:]
+        cov_y = (Jy * Sigma) @ Jy.T
+        cov_yT = (Jy * Sigma) @ JT.T if temperature_errors else None
+        cov_T = (JT * Sigma) @ JT.T if temperature_errors else None
+        fit = fit_points(si.T, lnp[0], model=model, weighting=weighting, include=fit_inc,
+                         cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T)
+    reduced = {k: v[0] for k, v in out.items()}
+    warn.extend(fit.warnings)
+    for i in range(n):
+        if flags[i]:
+            state = "excluded" if not fit_inc[i] else "still included"
+            warn.append(f"point {i} ({si.T[i] - 273.15:.2f} degC), {state}: " + "; ".join(flags[i]))
+    comparison = None
+    if curve is not None:
+        comparison = refmod.compare_to_reference(curve, si.T, reduced["p_vap"], fit_inc, fit.T_m)
+        warn.extend(comparison.warnings)
+    Tb = fit.boiling_point(P_STANDARD).nominal_value
+    span = fit.T[fit_inc].max() - fit.T[fit_inc].min()
+    if Tb - fit.T[fit_inc].max() > max(10.0, span):
+        warn.append(f"the normal boiling point ({Tb - 273.15:.1f} degC) lies "
+                    f"{Tb - fit.T[fit_inc].max():.0f} K beyond the highest point: an extrapolation")
+    u_p = np.sqrt(np.diag(cov_y)) * reduced["p_vap"]
+    return Analysis(run, options, si.T, reduced["V"], reduced["P_total"], reduced["p_air"],
+                    reduced["p_vap"], u_p, cov_y, float(reduced["n_air"]), float(p_ref),
+                    fit_inc, tuple(fit_reasons), tuple(flags), fit, comparison, tuple(warn),
+                    iv, J, si)
+
+
+def air_ref_T(si: RunSI, setup: ReductionSetup) -> float:
+    return float(si.T[setup.cold_index] if setup.air_from == "cold" else si.T_room)
+
+
+def _jacobian(batch, iv, steps, p_ref, n):
+    """d[ln p, T]/d inputs (2n, m) and d[ln p]/d p_ref (n,)."""
+
+    def f(U):
+        out, lnp = batch(U, np.full(U.shape[0], p_ref))
+        return np.concatenate([lnp, out["T"]], axis=1)
+
+    J = central_jacobian(f, iv.nominal, steps)
+    h = max(abs(p_ref) * 1e-6, 1e-3)
+    u0 = iv.nominal[None, :]
+    _, up = batch(u0, np.array([p_ref + h]))
+    _, dn = batch(u0, np.array([p_ref - h]))
+    return J, (up[0] - dn[0]) / (2 * h)
+
+
+def _implicit_correction(J, J_pref, fit, m, si, setup, iv, n, batch, p_ref, inc):
+    """Add the dependence of p_ref on the data when p_ref is self-consistent.
+
+    At the solution, p_ref = g(u, p_ref) with g the fitted curve at the air
+    reference temperature. The implicit-function theorem gives
+    dp_ref/du = (dg/du) / (1 - dg/dp_ref).
+    """
+    idx = np.flatnonzero(inc)
+    Winv = (_whitener(fit.residual_cov) if fit.residual_cov is not None and
+            fit.residual_cov.shape[0] == len(idx) else np.eye(len(idx)))
+    T = si.T[idx]
+    X = m.jac(T, fit.params)
+    Xw = Winv @ X
+    S = np.linalg.pinv(Xw) @ Winv  # dθ/dy (p, n_inc), linearised
+    T_ref = air_ref_T(si, setup)
+    f_ref = float(m.f(T_ref, fit.params))
+    g = math.exp(f_ref)
+    grad_ref = m.jac(np.array([T_ref]), fit.params)[0]  # df(T_ref)/dθ
+    # dθ/dT_i through the model (y fixed): -S diag(df/dT)
+    dfdT = m.df_dT(T, fit.params)
+    Jy, JT = J[:n][idx], J[n:][idx]
+    dtheta_du = S @ Jy - S @ (dfdT[:, None] * JT)
+    dg_du = g * (grad_ref @ dtheta_du)
+    if setup.air_from == "cold":
+        # T_ref itself is an input
+        dg_du = dg_du + g * float(m.df_dT(T_ref, fit.params)) * J[n + setup.cold_index]
+    else:
+        j = iv.names.index("T_room")
+        dg_du[j] += g * float(m.df_dT(T_ref, fit.params))
+    dg_dp = g * (grad_ref @ (S @ J_pref[idx]))
+    dp_du = dg_du / (1.0 - dg_dp)
+    out = J.copy()
+    out[:n] = J[:n] + np.outer(J_pref, dp_du)
+    return out
+
+
+def _solve_p_ref(fixed_weight_fit, Winv, inc, si, p_start) -> float:
+    """Solve p = g(p): the fitted curve's own vapor pressure at the air reference."""
+    from scipy.optimize import brentq
+
+    def G(p):
+        g = fixed_weight_fit(Winv, inc, p)
+        return np.nan if g is None else g - p
+
+    hi = si.P_bar * 0.999
+    lo = 0.0
+    # bracket around the start, widening
+    a, b = max(lo, p_start * 0.5), min(hi, max(p_start * 2.0, 1.0))
+    Ga, Gb = G(a), G(b)
+    tries = 0
+    while not (np.isfinite(Ga) and np.isfinite(Gb) and Ga * Gb <= 0) and tries < 30:
+        a, b = max(lo, a * 0.5), min(hi, b * 2.0 + 1.0)
+        Ga, Gb = G(a), G(b)
+        tries += 1
+    if not (np.isfinite(Ga) and np.isfinite(Gb) and Ga * Gb <= 0):
+        raise FitError("no self-consistent vapor pressure at the air reference temperature "
+                       "was found; use vapor_at_air_reference='reference' or 'neglect'")
+    return float(brentq(G, a, b, xtol=1e-12, rtol=1e-14))

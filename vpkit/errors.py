@@ -1,0 +1,97 @@
+"""The one error tree and the warning class of vpkit.
+
+Every error a user can cause derives from :class:`VpkitError`. Errors about
+input also derive from :class:`ValueError`, carry the file, row and column where
+they apply, and say what was found, what was expected and how to fix it.
+"""
+
+from __future__ import annotations
+
+
+class VpkitError(Exception):
+    """Base class of every error raised by vpkit on purpose."""
+
+
+class InputError(VpkitError, ValueError):
+    """Bad input: names the place (file, row, column) and how to fix it.
+
+    Parameters
+    ----------
+    message : str
+        What was found and what was expected.
+    file, row, column : optional
+        Where the problem is. ``row`` counts lines of the file from 1 (as a
+        text editor or spreadsheet shows them).
+    hint : str, optional
+        How to fix it.
+    """
+
+    def __init__(
+        self,
+        message: str,
+        *,
+        file: str | None = None,
+        row: int | None = None,
+        column: str | None = None,
+        hint: str | None = None,
+    ) -> None:
+        self.message = message
+        self.file = None if file is None else str(file)
+        self.row = row
+        self.column = column
+        self.hint = hint
+        super().__init__(self._render())
+
+    def _render(self) -> str:
+        where = []
+        if self.file is not None:
+            where.append(f"file {self.file!r}")
+        if self.row is not None:
+            where.append(f"row {self.row}")
+        if self.column is not None:
+            where.append(f"column {self.column!r}")
+        text = (", ".join(where) + ": " if where else "") + self.message
+        if self.hint:
+            text += f" (how to fix: {self.hint})"
+        return text
+
+    def __reduce__(self):  # keep errors picklable with their fields
+        return (_rebuild, (type(self), self.message, self.file, self.row, self.column, self.hint))
+
+
+def _rebuild(cls, message, file, row, column, hint):
+    return cls(message, file=file, row=row, column=column, hint=hint)
+
+
+class RunFileError(InputError):
+    """A run file (or table) cannot be read: layout, missing entries, bad text."""
+
+
+class UnitError(InputError):
+    """A unit is missing, unknown, or of the wrong kind for its quantity."""
+
+
+class ImpossibleDataError(InputError):
+    """The numbers can be read but describe something physically impossible."""
+
+
+class FitError(VpkitError, ValueError):
+    """A fit cannot be made (too few points for the model, singular problem)."""
+
+    def __init__(self, message: str, *, n_points: int | None = None,
+                 n_params: int | None = None) -> None:
+        self.message = message
+        self.n_points = n_points
+        self.n_params = n_params
+        super().__init__(message)
+
+    def __reduce__(self):
+        return (_rebuild_fit, (self.message, self.n_points, self.n_params))
+
+
+def _rebuild_fit(message, n_points, n_params):
+    return FitError(message, n_points=n_points, n_params=n_params)
+
+
+class VpkitWarning(UserWarning):
+    """Something suspicious but computable (extrapolation, ill-conditioning...)."""

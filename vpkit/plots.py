@@ -1,0 +1,94 @@
+"""Report figures (pure: an Analysis in, a matplotlib Figure out; no pyplot)."""
+
+from __future__ import annotations
+
+import numpy as np
+from matplotlib.figure import Figure
+
+from .constants import T_ZERO_C
+
+MM_PER_INCH = 25.4
+#: Journal column widths [mm]; common practice, no source (typical single and
+#: double column widths of two-column journals).
+COLUMN_WIDTHS = {"single": 85.0, "double": 175.0}
+
+
+def _style(width_mm: float) -> dict:
+    base = 7.0 if width_mm < 120 else 8.5
+    return {"font": base, "small": base - 1, "lw": 0.8 if width_mm < 120 else 1.0,
+            "ms": 3.5 if width_mm < 120 else 4.5}
+
+
+def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
+               height_mm: float | None = None) -> Figure:
+    """ln p against 1/T with the fit, its 95 % band, the reference and residuals.
+
+    Parameters
+    ----------
+    a : Analysis
+    width_mm : float
+        Figure width; 85 (single column) and 175 (double column) are the usual
+        journal widths. Fonts and lines are sized for it.
+    reference : bool
+        Draw the reference curve when the analysis has one.
+    height_mm : float, optional
+        Default 0.85 of the width for a single column, 0.55 for wider figures.
+    """
+    st = _style(width_mm)
+    if height_mm is None:
+        height_mm = width_mm * (0.85 if width_mm < 120 else 0.55)
+    fig = Figure(figsize=(width_mm / MM_PER_INCH, height_mm / MM_PER_INCH),
+                 layout="constrained")
+    gs = fig.add_gridspec(2, 1, height_ratios=[3, 1])
+    ax = fig.add_subplot(gs[0])
+    axr = fig.add_subplot(gs[1], sharex=ax)
+    f = a.fit
+    inc = a.include
+    x = 1000.0 / a.T
+    with np.errstate(invalid="ignore", divide="ignore"):
+        y = np.log(a.p_vap)
+    ok = np.isfinite(y)
+    Tfit = a.T[inc]
+    lo, hi = Tfit.min(), Tfit.max()
+    pad = 0.08 * (hi - lo + 1.0)
+    Tg = np.linspace(max(lo - pad, 1.0), hi + pad, 200)
+    band_lo, band_hi = f.ln_p_band(Tg)
+    ax.fill_between(1000 / Tg, band_lo, band_hi, color="0.80", lw=0, label="95 % band of fit")
+    ax.plot(1000 / Tg, f.ln_p(Tg), color="k", lw=st["lw"], label=f"fit: {f.model.label}")
+    if reference and a.comparison is not None:
+        c = a.comparison.curve
+        ax.plot(1000 / Tg, c.ln_p(Tg), color="tab:blue", lw=st["lw"], ls="--",
+                label=c.label)
+    yerr = a.u_p_vap / np.where(a.p_vap > 0, a.p_vap, np.nan)
+    ax.errorbar(x[inc & ok], y[inc & ok], yerr=yerr[inc & ok], fmt="o", ms=st["ms"],
+                color="tab:red", mec="tab:red", lw=st["lw"], capsize=0, label="included")
+    exc = ~inc & ok
+    if exc.any():
+        ax.plot(x[exc], y[exc], "s", ms=st["ms"], mfc="none", mec="0.3", mew=st["lw"],
+                label="excluded (reasons in table)")
+        for i in np.flatnonzero(exc):
+            ax.annotate(str(i), (x[i], y[i]), xytext=(3, 3), textcoords="offset points",
+                        fontsize=st["small"], color="0.3")
+    ax.set_ylabel(r"$\ln(p_\mathrm{vap}/\mathrm{Pa})$", fontsize=st["font"])
+    dH = f.enthalpy
+    ax.set_title(f"{a.si.liquid}: ΔH_vap = {dH.nominal_value / 1000:.1f} ± "
+                 f"{dH.std_dev / 1000:.1f} kJ/mol at {f.T_m:.0f} K", fontsize=st["font"])
+    ax.legend(fontsize=st["small"], frameon=False, loc="lower left", numpoints=1)
+    res = f.residuals
+    axr.axhline(0, color="k", lw=st["lw"] * 0.7)
+    axr.errorbar(x[inc & ok], res[inc & ok], yerr=yerr[inc & ok], fmt="o", ms=st["ms"],
+                 color="tab:red", lw=st["lw"], capsize=0)
+    if exc.any():
+        axr.plot(x[exc], res[exc], "s", ms=st["ms"], mfc="none", mec="0.3", mew=st["lw"])
+    axr.set_ylabel("residual", fontsize=st["font"])
+    axr.set_xlabel(r"$1000\,\mathrm{K}/T$", fontsize=st["font"])
+    top = ax.secondary_xaxis("top", functions=(lambda v: 1000.0 / np.asarray(v) - T_ZERO_C,
+                                               lambda t: 1000.0 / (np.asarray(t) + T_ZERO_C)))
+    top.set_xlabel("t / °C", fontsize=st["font"])
+    for axis in (ax, axr, top):
+        axis.tick_params(labelsize=st["small"], width=st["lw"] * 0.8, length=3)
+    ax.tick_params(labelbottom=False)
+    for axis in (ax, axr):
+        for s in axis.spines.values():
+            s.set_linewidth(st["lw"] * 0.8)
+    return fig

@@ -1,0 +1,153 @@
+"""The forward model: raw readings a run would give for a known vapor-pressure curve.
+
+Used to make the invented demo runs, the round-trip tests and the coverage
+study. It inverts :mod:`vpkit.reduce` step by step, so a noise-free simulated
+run reduces back to the curve it came from.
+
+References
+----------
+Same physics as :mod:`vpkit.reduce` (ideal gas, Dalton's law, hydrostatics).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+
+import numpy as np
+
+from .constants import G_N, R
+from .reduce import gas_density
+from .run import Entry, Run
+from .units import from_si
+
+SI_UNITS = {"T": "K", "V": "m**3", "P": "Pa", "m": "kg", "rho": "kg/m**3", "L": "m"}
+BENCH_UNITS = {"T": "degC", "V": "mL", "P": "kPa", "m": "g", "rho": "g/mL", "L": "cm"}
+
+#: Standard uncertainties assumed when noise is added (SI); common practice, no source
+#: (the same defaults as vpkit.run.DEFAULT_UNCERTAINTY).
+NOISE = {"reading": 0.005e-6, "T": 0.2, "P_bar": 100.0, "T_room": 0.3, "mass": 1e-6,
+         "V_injected": 0.01e-6, "depth": 0.003}
+
+
+def simulate_run(
+    p_true: Callable[[np.ndarray], np.ndarray],
+    T,
+    *,
+    liquid: str,
+    P_bar: float = 100_000.0,
+    T_room: float = 294.15,
+    V_room: float = 2.0e-6,
+    offset: float = 0.15e-6,
+    direction: int = 1,
+    density: float = 1000.0,
+    depth: float | None = None,
+    gas_mass: bool = True,
+    mass_before: float = 0.030,
+    boiling_point: float | None = None,
+    units: Mapping[str, str] = BENCH_UNITS,
+    noise: Mapping[str, float] | None = None,
+    rng: np.random.Generator | None = None,
+    comments: tuple[str, ...] = (),
+    notes: str = "",
+) -> Run:
+    """Simulate the raw record of one run.
+
+    Parameters
+    ----------
+    p_true : callable
+        True vapor pressure [Pa] as a function of T [K].
+    T : array_like
+        True bath temperatures [K].
+    P_bar, T_room, V_room, offset, density, depth, mass_before :
+        True barometric pressure [Pa], room temperature [K], gas volume at the
+        weighing [m^3], volume below the zero mark [m^3], liquid density
+        [kg/m^3], bubble depth [m], mass before the air [kg].
+    direction : int
+        +1 graduated from the closed end, -1 from the open end (the scale is
+        then read downwards from ``offset``).
+    units : mapping
+        Units to write: keys T, V, P, m, rho, L.
+    noise : mapping, optional
+        Standard deviations (SI) of reading noise per kind (see :data:`NOISE`);
+        None for exact readings.
+    rng : numpy Generator, optional
+
+    Returns
+    -------
+    Run
+        With metadata for all three air-amount methods (weighing, injected
+        volume; the coldest point can serve as the cold reference).
+    """
+    T = np.asarray(T, float)
+    rng = rng or np.random.default_rng(0)
+    p_room = float(p_true(np.array([T_room]))[0])
+    n_air = (P_bar - p_room) * V_room / (R * T_room)
+    rho_gas = gas_density(P_bar, T_room) if gas_mass else 0.0
+    mass_after = mass_before - V_room * (density - rho_gas)
+    room_reading = (V_room - offset) / direction
+    P_tot = P_bar + (density * G_N * depth if depth is not None else 0.0)
+    V = n_air * R * T / (P_tot - p_true(T))
+    reading = (V - offset) / direction
+    V_inj = n_air * R * T_room / P_bar
+
+    def noisy(value, key):
+        if noise is None or not noise.get(key):
+            return value
+        return value + rng.normal(0.0, noise[key], np.shape(value))
+
+    T_rec = noisy(T, "T")
+    reading_rec = noisy(reading, "reading")
+    u = units
+
+    def val(x, unit, kind):
+        return float(from_si(x, unit, kind))
+
+    def unc(key, unit, kind):
+        if noise is None or not noise.get(key):
+            return None
+        return float(from_si(noise[key], unit, kind, delta=True))
+
+    entries = [
+        ("liquid", Entry(liquid)),
+        ("barometric_pressure", Entry(val(noisy(P_bar, "P_bar"), u["P"], "pressure"), u["P"],
+                                      unc("P_bar", u["P"], "pressure"))),
+        ("room_temperature", Entry(val(noisy(T_room, "T_room"), u["T"], "temperature"), u["T"],
+                                   unc("T_room", u["T"], "temperature"))),
+        ("room_reading", Entry(val(noisy(room_reading, "reading"), u["V"], "volume"), u["V"],
+                               unc("reading", u["V"], "volume"))),
+        ("mass_before_air", Entry(val(noisy(mass_before, "mass"), u["m"], "mass"), u["m"],
+                                  unc("mass", u["m"], "mass"))),
+        ("mass_after_air", Entry(val(noisy(mass_after, "mass"), u["m"], "mass"), u["m"],
+                                 unc("mass", u["m"], "mass"))),
+        ("liquid_density", Entry(val(density, u["rho"], "density"), u["rho"])),
+        ("injected_air_volume", Entry(val(noisy(V_inj, "V_injected"), u["V"], "volume"), u["V"],
+                                      unc("V_injected", u["V"], "volume"))),
+        ("graduated_from", Entry("closed end" if direction == 1 else "open end")),
+    ]
+    if depth is not None:
+        entries.append(("bubble_depth", Entry(val(noisy(depth, "depth"), u["L"], "length"),
+                                              u["L"], unc("depth", u["L"], "length"))))
+    if boiling_point is not None:
+        entries.append(("boiling_point", Entry(val(boiling_point, u["T"], "temperature"),
+                                               u["T"])))
+    if noise is not None:
+        if noise.get("reading"):
+            entries.append(("reading_uncertainty", Entry(val(noise["reading"], u["V"], "volume"),
+                                                         u["V"])))
+        if noise.get("T"):
+            entries.append(("temperature_uncertainty",
+                            Entry(float(from_si(noise["T"], u["T"], "temperature", delta=True)),
+                                  u["T"])))
+    if notes:
+        entries.append(("notes", Entry(notes)))
+    n = len(T)
+    return Run(
+        entries=tuple(entries),
+        units=(u["T"], u["V"], ""),
+        bath_temperature=tuple(val(t, u["T"], "temperature") for t in T_rec),
+        reading=tuple(val(r, u["V"], "volume") for r in reading_rec),
+        pressure=(None,) * n,
+        include=(True,) * n,
+        reason=("",) * n,
+        comments=tuple(comments),
+    )

@@ -1,0 +1,147 @@
+"""The one pint registry of vpkit: conversion to SI happens here only.
+
+Readers, panels and reports call :func:`to_si` / :func:`from_si`; the core
+never sees a unit other than K, Pa, m^3, kg, mol and J/mol.
+
+References
+----------
+.. [1] pint, "Physical quantities module", unit definitions file
+   (default_en.txt): definitions of mmHg, torr, inHg, atm, bar.
+"""
+
+from __future__ import annotations
+
+import functools
+
+import pint
+
+from .errors import UnitError
+
+ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+
+#: What each kind of quantity is, and its SI unit.
+SI_UNITS: dict[str, str] = {
+    "temperature": "K",
+    "pressure": "Pa",
+    "volume": "m**3",
+    "mass": "kg",
+    "density": "kg/m**3",
+    "length": "m",
+}
+
+_DIMENSIONS = {
+    "temperature": "[temperature]",
+    "pressure": "[mass] / [length] / [time] ** 2",
+    "volume": "[length] ** 3",
+    "mass": "[mass]",
+    "density": "[mass] / [length] ** 3",
+    "length": "[length]",
+}
+
+_EXAMPLES = {
+    "temperature": "degC, K, degF",
+    "pressure": "kPa, Pa, hPa, mbar, bar, atm, mmHg, Torr, inHg",
+    "volume": "mL, uL, cm3, L",
+    "mass": "g, mg, kg",
+    "density": "g/mL, g/cm3, kg/m3",
+    "length": "cm, mm, m",
+}
+
+# Spellings people type that pint does not know as such.
+_ALIASES = {
+    "°c": "degC", "ºc": "degC", "c": "degC", "degc": "degC", "celsius": "degC",
+    "°f": "degF", "f": "degF", "degf": "degF", "fahrenheit": "degF",
+    "k": "K", "kelvin": "K",
+    "ml": "mL", "µl": "uL", "μl": "uL", "ul": "uL", "cm3": "cm**3", "cm³": "cm**3",
+    "cc": "cm**3", "l": "L", "m3": "m**3", "mm3": "mm**3",
+    "torr": "torr", "mmhg": "mmHg", "inhg": "inHg", "kpa": "kPa", "hpa": "hPa",
+    "mbar": "mbar", "pa": "Pa", "bar": "bar", "atm": "atm", "psi": "psi",
+    "g/ml": "g/mL", "g/cm3": "g/cm**3", "kg/m3": "kg/m**3", "kg/l": "kg/L",
+    "g/l": "g/L",
+}
+
+
+def normalize_unit(text: str) -> str:
+    """Return the pint spelling of a unit as people type it (``°C`` -> ``degC``)."""
+    key = text.strip()
+    return _ALIASES.get(key.lower(), key)
+
+
+@functools.lru_cache(maxsize=256)
+def _factor(unit: str, kind: str, delta: bool) -> tuple[float, float]:
+    """Return (scale, offset) such that SI = scale*value + offset."""
+    if kind not in _DIMENSIONS:
+        raise KeyError(kind)
+    name = normalize_unit(unit)
+    if not name:
+        raise UnitError(
+            f"no unit given for a {kind}",
+            hint=f"write the unit, e.g. one of {_EXAMPLES[kind]}",
+        )
+    try:
+        u = ureg.Unit(name)
+    except Exception as exc:  # pint raises several types for bad text
+        raise UnitError(
+            f"unknown unit {unit!r} for a {kind}",
+            hint=f"use one of {_EXAMPLES[kind]}",
+        ) from exc
+    if u.dimensionality != ureg.Unit(SI_UNITS[kind]).dimensionality:
+        raise UnitError(
+            f"unit {unit!r} is not a unit of {kind}",
+            hint=f"use one of {_EXAMPLES[kind]}",
+        )
+    si = SI_UNITS[kind]
+    if kind == "temperature":
+        if delta:
+            # a temperature difference: degC and K have the same size
+            scale = ureg.Quantity(1.0, _delta_name(name)).to("delta_degC").magnitude
+            return float(scale), 0.0
+        zero = ureg.Quantity(0.0, name).to(si).magnitude
+        one = ureg.Quantity(1.0, name).to(si).magnitude
+        return float(one - zero), float(zero)
+    scale = ureg.Quantity(1.0, name).to(si).magnitude
+    return float(scale), 0.0
+
+
+def _delta_name(name: str) -> str:
+    return {"degC": "delta_degC", "degF": "delta_degF"}.get(name, name)
+
+
+def to_si(value, unit: str, kind: str, *, delta: bool = False):
+    """Convert a number (or numpy array) in ``unit`` to the SI unit of ``kind``.
+
+    Parameters
+    ----------
+    value : float or array_like
+        The number as entered.
+    unit : str
+        The unit as entered (``kPa``, ``°C``, ``mL`` ...).
+    kind : str
+        One of ``temperature``, ``pressure``, ``volume``, ``mass``,
+        ``density``, ``length``.
+    delta : bool
+        Treat a temperature as a difference (for uncertainties).
+
+    Returns
+    -------
+    float or ndarray
+        The value in K, Pa, m^3, kg, kg/m^3 or m.
+
+    Raises
+    ------
+    UnitError
+        The unit is empty, unknown, or of the wrong dimension.
+    """
+    scale, offset = _factor(unit, kind, delta)
+    return value * scale + offset
+
+
+def from_si(value, unit: str, kind: str, *, delta: bool = False):
+    """Inverse of :func:`to_si`."""
+    scale, offset = _factor(unit, kind, delta)
+    return (value - offset) / scale
+
+
+def check_unit(unit: str, kind: str) -> None:
+    """Raise :class:`UnitError` unless ``unit`` is a valid unit of ``kind``."""
+    _factor(unit, kind, False)
