@@ -81,6 +81,7 @@ class Analysis:
     inputs: InputVector = field(repr=False)
     jacobian: np.ndarray = field(repr=False)
     si: RunSI = field(repr=False)
+    setup: ReductionSetup = field(repr=False)
 
     # -- headline numbers ---------------------------------------------------
     @property
@@ -138,6 +139,16 @@ class Analysis:
         opts.update(changes)
         return analyze(self.run, **opts)
 
+    def monte_carlo(self, draws: int = 100_000, seed: int = 0) -> MonteCarloResult:
+        """Propagate the input distributions by Monte Carlo (GUM Supplement 1).
+
+        Every uncertain input is drawn from its normal distribution; each draw
+        is reduced (solving the self-consistent air amount per draw where that
+        choice was made) and fitted with the weights of the nominal fit. ΔH_vap
+        is taken at the nominal T_m.
+        """
+        return _monte_carlo(self, draws, seed)
+
     def air_method_shifts(self) -> dict[str, float]:
         """ΔH_vap [J/mol] under each other workable air-amount choice (nominal fits)."""
         out = {}
@@ -152,6 +163,35 @@ class Analysis:
                     continue
                 out[f"{air}/{vap}"] = other.enthalpy.nominal_value
         return out
+
+
+@dataclass(frozen=True)
+class MonteCarloResult:
+    """Monte Carlo propagation of the input distributions to ΔH_vap.
+
+    Attributes
+    ----------
+    enthalpy : ndarray
+        ΔH_vap at T_m of every successful draw [J/mol].
+    draws, failed : int
+        Number of draws, and of those with an impossible point (p_vap <= 0).
+    """
+
+    enthalpy: np.ndarray
+    draws: int
+    failed: int
+
+    @property
+    def mean(self) -> float:
+        return float(np.mean(self.enthalpy))
+
+    @property
+    def std(self) -> float:
+        return float(np.std(self.enthalpy, ddof=1))
+
+    def interval(self, level: float = 0.95) -> tuple[float, float]:
+        q = np.quantile(self.enthalpy, [0.5 - level / 2, 0.5 + level / 2])
+        return float(q[0]), float(q[1])
 
 
 def _exclusions(exclude, n) -> dict[int, str]:
@@ -355,7 +395,7 @@ def analyze(
     return Analysis(run, options, si.T, reduced["V"], reduced["P_total"], reduced["p_air"],
                     reduced["p_vap"], u_p, cov_y, float(reduced["n_air"]), float(p_ref),
                     fit_inc, tuple(fit_reasons), tuple(flags), fit, comparison, tuple(warn),
-                    iv, J, si)
+                    iv, J, si, setup)
 
 
 def air_ref_T(si: RunSI, setup: ReductionSetup) -> float:
@@ -414,7 +454,11 @@ def _implicit_correction(J, J_pref, fit, m, si, setup, iv, n, batch, p_ref, inc)
 
 
 def _solve_p_ref(fixed_weight_fit, Winv, inc, si, p_start) -> float:
-    """Solve p = g(p): the fitted curve's own vapor pressure at the air reference."""
+    """Solve p = g(p): the fitted curve's own vapor pressure at the air reference.
+
+    Secant steps from the current value (G is nearly linear in p); a bracketing
+    search (Brent) if they fail.
+    """
     from scipy.optimize import brentq
 
     def G(p):
@@ -422,16 +466,89 @@ def _solve_p_ref(fixed_weight_fit, Winv, inc, si, p_start) -> float:
         return np.nan if g is None else g - p
 
     hi = si.P_bar * 0.999
-    lo = 0.0
-    # bracket around the start, widening
-    a, b = max(lo, p_start * 0.5), min(hi, max(p_start * 2.0, 1.0))
+    p0 = min(max(p_start, 1.0), hi)
+    p1 = p0 * (1 + 1e-3)
+    g0, g1 = G(p0), G(p1)
+    for _ in range(30):
+        if not (np.isfinite(g0) and np.isfinite(g1)) or g1 == g0:
+            break
+        p2 = p1 - g1 * (p1 - p0) / (g1 - g0)
+        if not 0.0 <= p2 < hi:
+            break
+        p0, g0, p1 = p1, g1, p2
+        g1 = G(p1)
+        if np.isfinite(g1) and abs(g1) <= 1e-11 * max(p1, 1.0):
+            return float(p1)
+    a, b = 0.0, min(hi, max(p_start * 2.0, 1.0))
     Ga, Gb = G(a), G(b)
     tries = 0
     while not (np.isfinite(Ga) and np.isfinite(Gb) and Ga * Gb <= 0) and tries < 30:
-        a, b = max(lo, a * 0.5), min(hi, b * 2.0 + 1.0)
-        Ga, Gb = G(a), G(b)
+        b = min(hi, b * 2.0 + 1.0)
+        Gb = G(b)
         tries += 1
     if not (np.isfinite(Ga) and np.isfinite(Gb) and Ga * Gb <= 0):
         raise FitError("no self-consistent vapor pressure at the air reference temperature "
                        "was found; use vapor_at_air_reference='reference' or 'neglect'")
     return float(brentq(G, a, b, xtol=1e-12, rtol=1e-14))
+
+
+def _fast_p(curve: refmod.ReferenceCurve, T0: float):
+    """p(T) of the curve, or its second-order expansion of ln p about T0 for curves
+    that are slow to evaluate (IAPWS-95); the error is below 1e-9 for |T - T0| < 2 K."""
+    if curve._kind == "antoine":
+        return curve.p
+    h = 0.05
+    l0, lp, lm = (float(curve.ln_p(t)) for t in (T0, T0 + h, T0 - h))
+    d1, d2 = (lp - lm) / (2 * h), (lp - 2 * l0 + lm) / h**2
+    return lambda T: np.exp(l0 + d1 * (T - T0) + 0.5 * d2 * (T - T0) ** 2)
+
+
+def _monte_carlo(a: Analysis, draws: int, seed: int) -> MonteCarloResult:
+    from .fit import fit_batch
+
+    rng = np.random.default_rng(seed)
+    iv, si, setup, f = a.inputs, a.si, a.setup, a.fit
+    U = iv.nominal + rng.standard_normal((draws, len(iv.nominal))) * iv.sigma
+    inc = a.include
+    C = f.residual_cov if f.residual_cov is not None else np.eye(int(inc.sum()))
+    Winv = _whitener(C)
+    model = f.model.name
+    mode = "none" if setup.air_from == "injected" else setup.vapor_at_air_reference
+
+    def fitted(p_ref):
+        out = evaluate(iv, si, setup, U, p_ref)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            y = np.log(out["p_vap"][:, inc])
+        bad = ~np.all(np.isfinite(y), axis=1)
+        y[bad] = f.y[inc]
+        th = fit_batch(model, out["T"][:, inc], y, Winv, f.params)
+        return out, th, bad
+
+    if mode == "reference":
+        curve = refmod.reference_curve(si.liquid, a.options["reference"] or "auto")
+        p_ref = _fast_p(curve, air_ref_T(si, setup))
+    elif mode == "fit":
+        m = f.model
+
+        def G(p):
+            out, th, _ = fitted(p)
+            return np.exp(m.f(out["T_ref"], [th[:, k] for k in range(m.n_params)])) - p
+
+        p0 = np.full(draws, a.p_ref)
+        p1 = p0 * (1 + 1e-3) + 1e-3
+        g0, g1 = G(p0), G(p1)
+        for _ in range(12):
+            with np.errstate(invalid="ignore", divide="ignore"):
+                p2 = p1 - g1 * (p1 - p0) / (g1 - g0)
+            p2 = np.where(np.isfinite(p2), p2, p1)
+            p0, g0, p1 = p1, g1, p2
+            g1 = G(p1)
+            if np.nanmax(np.abs(g1)) < 1e-9 * max(a.p_ref, 1.0):
+                break
+        p_ref = p1
+    else:
+        p_ref = np.zeros(draws)
+    _, th, bad = fitted(p_ref)
+    dH = f.model.enthalpy(f.T_m, [th[:, k] for k in range(f.model.n_params)])
+    ok = ~bad & np.isfinite(dH)
+    return MonteCarloResult(np.asarray(dH)[ok], draws, int((~ok).sum()))

@@ -338,8 +338,12 @@ def _whitener(C: np.ndarray) -> np.ndarray:
     return np.linalg.inv(L)
 
 
-def _solve(model: Model, T, y, Winv, th0, space):
-    """Minimise |Winv r|^2, r = y - f or exp(y) - exp(f); return θ and J_w."""
+def _solve(model: Model, T, y, Winv, th0, space, try_profile: bool = False):
+    """Minimise |Winv r|^2, r = y - f or exp(y) - exp(f); return θ.
+
+    For the nonlinear model, ``try_profile`` also starts from the profile
+    search over C and keeps the better solution (for far-off starting values).
+    """
     if model.linear and space == "ln_p":
         X = model.jac(T, None)
         th, *_ = np.linalg.lstsq(Winv @ X, Winv @ y, rcond=None)
@@ -358,7 +362,7 @@ def _solve(model: Model, T, y, Winv, th0, space):
         return -(Winv @ J)
 
     candidates = [np.asarray(th0, float)]
-    if model.name == "antoine":
+    if model.name == "antoine" and try_profile:
         candidates.append(_antoine_profile_start(T, y))
     best = None
     for start in candidates:
@@ -449,7 +453,7 @@ def fit_points(
 
     th = np.asarray(start, float) if start is not None else m.start(Ti, yi)
     C = None
-    for _ in range(4 if weighting != "ordinary" else 1):
+    for it in range(4 if weighting != "ordinary" else 1):
         if weighting == "ordinary":
             Winv = np.eye(n)
         else:
@@ -460,7 +464,7 @@ def fit_points(
             if weighting == "weighted":
                 C = np.diag(np.diag(C))
             Winv = _whitener(C)
-        th_new = _solve(m, Ti, yi, Winv, th, space)
+        th_new = _solve(m, Ti, yi, Winv, th, space, try_profile=(it == 0 and start is not None))
         converged = bool(np.max(np.abs(th_new - th) / np.maximum(np.abs(th), 1e-300)) < 1e-13)
         th = th_new
         if converged:
@@ -532,24 +536,81 @@ def _chi2_limit(dof: int) -> float:
 
 
 def _conditioning_warnings(m: Model, th, cov, T, n) -> list[str]:
-    out = []
+    """Warn when a three-parameter model is not supported by the data.
+
+    Rule (ours): the curvature parameter (C of Antoine, c = ΔCp/R of the
+    constant-ΔCp form; both are zero for a straight Clausius-Clapeyron line) is
+    less than twice its standard uncertainty, or there are fewer than two
+    points per parameter.
+    """
     if m.n_params < 3:
-        return out
+        return []
     span = float(T.max() - T.min())
-    sd = np.sqrt(np.diag(cov))
+    sd = float(np.sqrt(cov[2, 2]))
+    curv = float(th[2])
     if m.name == "antoine":
-        rel = sd[2] / abs(float(np.mean(T)) + th[2])
-        bad = rel > 0.25
-        what = f"C is {th[2]:.0f} ± {sd[2]:.0f} K"
+        what = f"C = {curv:.0f} ± {sd:.0f} K"
     else:
-        # ΔCp = R c: compare its uncertainty with a typical ΔCp of 100 J/(mol K)
-        bad = R * sd[2] > 100.0
-        what = f"ΔCp is {R * th[2]:.0f} ± {R * sd[2]:.0f} J/(mol K)"
-    if bad or n <= m.n_params + 1:
-        out.append(
-            f"{m.label} is ill-conditioned for {n} points over {span:.0f} K ({what}): the data "
-            "do not fix the curvature; prefer Clausius–Clapeyron, or widen the range")
-    return out
+        what = f"ΔCp = {R * curv:.0f} ± {R * sd:.0f} J/(mol K)"
+    if abs(curv) < 2 * sd or n < 2 * m.n_params:
+        return [f"{m.label} is ill-conditioned for {n} points over {span:.0f} K ({what}): the "
+                "data do not fix the curvature, so extrapolations (boiling points) are unsafe; "
+                "prefer Clausius–Clapeyron, or widen the range"]
+    return []
+
+
+def fit_batch(model: str, T: np.ndarray, y: np.ndarray, Winv: np.ndarray, start,
+              iterations: int = 12) -> np.ndarray:
+    """Fit many data sets at once with one fixed whitening matrix.
+
+    Parameters
+    ----------
+    model : str
+    T, y : ndarray, shape (B, n)
+        Temperatures [K] and ln(p/Pa) of B data sets of the same n points.
+    Winv : ndarray, shape (n, n)
+        Whitening matrix (inverse Cholesky factor of the residual covariance).
+    start : array_like, shape (p,)
+        Starting parameters (used by the nonlinear model).
+    iterations : int
+        Gauss-Newton steps for the nonlinear model.
+
+    Returns
+    -------
+    ndarray, shape (B, p)
+        NaN rows where the nonlinear fit did not converge.
+    """
+    m = get_model(model)
+    B = T.shape[0]
+    yw = y @ Winv.T
+    if m.linear:
+        X = m.jac(T, None)  # (B, n, p)
+        Xw = np.matmul(Winv, X)
+        A = np.matmul(Xw.transpose(0, 2, 1), Xw)
+        rhs = np.matmul(Xw.transpose(0, 2, 1), yw[..., None])
+        return np.linalg.solve(A, rhs)[..., 0]
+    th = np.repeat(np.asarray(start, float)[None, :], B, axis=0)
+    step = np.zeros_like(th)
+    for _ in range(iterations):
+        thc = [th[:, k][:, None] for k in range(m.n_params)]
+        r = y - m.f(T, thc)
+        J = m.jac(T, [th[:, k] for k in range(m.n_params)])
+        Jw = np.einsum("ij,bjp->bip", Winv, J)
+        rw = r @ Winv.T
+        A = np.einsum("bip,biq->bpq", Jw, Jw)
+        rhs = np.einsum("bip,bi->bp", Jw, rw)
+        # rows that diverged (non-finite) are kept as NaN, never solved
+        good = np.all(np.isfinite(A), axis=(1, 2)) & np.all(np.isfinite(rhs), axis=1)
+        A[~good] = np.eye(m.n_params)
+        rhs[~good] = 0.0
+        A = A + np.eye(m.n_params) * (1e-14 * np.trace(A, axis1=1, axis2=2))[:, None, None]
+        step = np.linalg.solve(A, rhs[..., None])[..., 0]
+        th = th + step
+        th[~good] = np.nan
+    # rows whose last step was still large did not converge: NaN, never a number
+    unconverged = np.any(np.abs(step) > 1e-6 * np.maximum(np.abs(th), 1.0), axis=1)
+    th[unconverged] = np.nan
+    return th
 
 
 def warn_all(result: FitResult) -> None:

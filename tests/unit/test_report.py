@@ -1,0 +1,57 @@
+"""Tables, summary, figure and command line of one analysed run."""
+
+import numpy as np
+import pytest
+
+import vpkit
+from tests.conftest import make_run
+from vpkit.__main__ import main
+from vpkit.simulate import NOISE
+
+
+@pytest.fixture(scope="module")
+def analysis():
+    run = make_run("2-propanol", noise=NOISE, rng=np.random.default_rng(9), boiling_point=355.3)
+    return vpkit.analyze(run, exclude={4: "stirrer stopped"})
+
+
+def test_tables_carry_units_and_reasons(analysis):
+    pts = analysis.points()
+    assert {"T [K]", "p_vap [kPa]", "u(p_vap) [kPa]", "included", "reason"} <= set(pts.columns)
+    assert pts.loc[4, "reason"] == "stirrer stopped" and not pts.loc[4, "included"]
+    res = analysis.results()
+    assert res["ΔH_vap [kJ/mol]"].iloc[0] == pytest.approx(analysis.enthalpy.nominal_value / 1e3)
+
+
+def test_summary_has_numbers_exclusions_and_safety(analysis):
+    s = analysis.summary()
+    assert "kJ/mol" in s and "stirrer stopped" in s and "Safety" in s
+
+
+@pytest.mark.parametrize("width", [85.0, 175.0])
+def test_figure_size_matches_journal_width(analysis, width, tmp_path):
+    fig = analysis.figure(width_mm=width)
+    assert fig.get_size_inches()[0] * 25.4 == pytest.approx(width)
+    fig.savefig(tmp_path / "f.png", dpi=300)
+    from matplotlib.image import imread
+
+    img = imread(tmp_path / "f.png")
+    assert img.shape[1] == pytest.approx(width / 25.4 * 300, abs=2)
+
+
+def test_command_line_writes_outputs(tmp_path, capsys):
+    run = make_run("toluene", noise=NOISE, rng=np.random.default_rng(2))
+    path = vpkit.write_run(run, tmp_path / "toluene_run.csv")
+    status = main(["analyze", str(path), "--out", str(tmp_path / "out")])
+    assert status == 0
+    for suffix in (".png", ".svg", "_points.csv", "_results.csv", "_summary.md"):
+        assert (tmp_path / "out" / f"toluene_run{suffix}").exists()
+    out = capsys.readouterr().out
+    assert "ΔH_vap" in out and "Safety" in out
+
+
+def test_command_line_reports_bad_file(tmp_path, capsys):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("[run]\nliquid,water,,\n")
+    assert main(["analyze", str(bad), "--out", str(tmp_path / "o")]) == 2
+    assert "bad.csv" in capsys.readouterr().err
