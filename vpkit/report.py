@@ -99,8 +99,12 @@ def _fmt(x, digits=2):
     return f"{x:.{digits}f}"
 
 
-def summary_markdown(a) -> str:
-    """A Markdown summary: headline numbers, choices, exclusions, warnings, safety."""
+def summary_markdown(a, *, shifts: bool = True) -> str:
+    """A Markdown summary: headline numbers, choices, exclusions, warnings, safety.
+
+    ``shifts`` adds how far the other correction choices move ΔH_vap (it
+    re-analyses the run a few times).
+    """
     f = a.fit
     r = results_table(a).iloc[0]
     lines = [f"# Vapor-pressure analysis: {a.si.liquid}", ""]
@@ -145,6 +149,12 @@ def summary_markdown(a) -> str:
         for i in excluded:
             why = a.reasons[i] or "no reason given"
             lines.append(f"- point {i} ({a.T[i] - T_ZERO_C:.2f} °C): {why}")
+    if shifts:
+        moves = a.choice_shifts()
+        if moves:
+            lines += ["", "## How other choices would move ΔH_vap", "",
+                      "| choice | ΔH_vap shift [kJ/mol] |", "|---|---|"]
+            lines += [f"| {k} | {v / 1000:+.2f} |" for k, v in moves.items()]
     if a.warnings:
         lines += ["", "## Warnings", ""] + [f"- {w}" for w in a.warnings]
     lines += ["", "> " + SAFETY_NOTE, ""]

@@ -81,8 +81,23 @@ def test_comparison_and_boiling_point_against_reference(noisy):
     assert a.results()["measured T_b [degC]"].iloc[0] == pytest.approx(351.4 - 273.15)
 
 
-def test_air_method_shifts_listed(noisy):
-    shifts = vpkit.analyze(noisy).air_method_shifts()
-    assert "injected/neglect" in shifts and "weighed/neglect" in shifts
+def test_choice_shifts_listed(noisy):
+    a = vpkit.analyze(noisy)
+    shifts = a.choice_shifts()
+    key = "air from weighed, p_vap at air reference: neglect"
+    assert key in shifts and "gas mass in the weighing off" in shifts
     # neglecting p_vap at room temperature overestimates the air and raises ΔH (METHOD 2.3)
-    assert shifts["weighed/neglect"] > vpkit.analyze(noisy).enthalpy.nominal_value
+    assert shifts[key] > 0
+    assert "How other choices" in a.summary()
+
+
+def test_robust_check_finds_a_planted_outlier():
+    run = make_run("ethanol", noise=NOISE, rng=np.random.default_rng(4))
+    r = list(run.reading)
+    r[4] -= 0.1  # a misread graduation, 20x the reading uncertainty
+    bad = run.__class__(run.entries, run.units, run.bath_temperature, tuple(r), run.pressure,
+                        run.include, run.reason)
+    a = vpkit.analyze(bad)
+    assert 4 in a.robust_outliers()
+    assert any("point 4" in w and "suspect" in w for w in a.warnings)
+    assert a.include[4]  # diagnostics never exclude
