@@ -26,9 +26,20 @@ from .run import Entry, Run, format_run, parse_run, read_run, write_run
 
 __version__ = "0.1.0"
 
+
+def explore(run_or_path, **kwargs):
+    """Open the interactive run explorer (needs ``pip install 'vpkit[notebook]'``).
+
+    See :func:`vpkit.panels.explore`; imported lazily so that ``import vpkit``
+    never loads the widget libraries.
+    """
+    from .panels import explore as _explore
+
+    return _explore(run_or_path, **kwargs)
+
 __all__ = [
     "Analysis", "Entry", "FitError", "FitResult", "ImpossibleDataError", "InputError", "Run",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
-    "fit_points", "format_run", "liquids", "parse_run", "read_run", "reference_curve",
+    "explore", "fit_points", "format_run", "liquids", "parse_run", "read_run", "reference_curve",
     "write_run",
 ]

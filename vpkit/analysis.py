@@ -216,16 +216,17 @@ class Analysis:
         References
         ----------
         .. [1] P. K. Sen, J. Am. Stat. Assoc. 63, 1379-1389 (1968); H. Theil,
-           Indag. Math. 12, 85-91 (1950).
+           Indag. Math. 12, 85-91 (1950): the median of pairwise slopes; the
+           intercept drops out as the median residual is subtracted.
         """
-        from scipy.stats import theilslopes
-
         idx = np.flatnonzero(self.include)
         if len(idx) < 4:
             return {}
         x, y = 1.0 / self.T[idx], self.fit.y[idx]
-        slope, intercept, *_ = theilslopes(y, x)
-        r = y - (intercept + slope * x)
+        i, j = np.triu_indices(len(x), 1)
+        keep = x[j] != x[i]
+        slope = np.median((y[j] - y[i])[keep] / (x[j] - x[i])[keep])
+        r = y - slope * x
         z = (r - np.median(r)) / self.point_only_uncertainty()[idx]
         return {int(i): float(zi) for i, zi in zip(idx, z) if abs(zi) > threshold}
 
@@ -288,6 +289,8 @@ def analyze(
     gas_mass: bool = True,
     exclude: Mapping[int, str] | Iterable[int] | None = None,
     reference: str | None = "auto",
+    reference_liquid: str | None = None,
+    bubble_depth: float | None = None,
     temperature_errors: bool = True,
 ) -> Analysis:
     """Reduce, propagate, fit and compare one run.
@@ -317,6 +320,11 @@ def analyze(
         Points to leave out of the fit, on top of the run's own flags.
     reference : {"auto", "antoine", "iapws95"} or None
         Reference equation for the comparison (None: no comparison).
+    reference_liquid : str, optional
+        Compare with another liquid's equation (default: the run's liquid).
+    bubble_depth : float, optional
+        Bubble depth [m] to use instead of the run's own (a what-if; the run is
+        not changed).
     temperature_errors : bool
         Fold the thermometer's uncertainty into the fit (effective variance).
 
@@ -327,6 +335,11 @@ def analyze(
     if not isinstance(run, Run):
         run = read_run(run)
     si = run.to_si()
+    if bubble_depth is not None:
+        if not np.isfinite(bubble_depth):
+            raise InputError(f"bubble_depth must be a finite length in m, got {bubble_depth!r}",
+                             column="bubble_depth")
+        si = dataclasses.replace(si, depth=float(bubble_depth))
     n = len(si.T)
     get_model(model)
     if air_from not in AIR_METHODS:
@@ -342,14 +355,19 @@ def analyze(
                    vapor_at_air_reference=vapor_at_air_reference, cold_index=cold_index,
                    use_head=use_head, gas_mass=gas_mass,
                    exclude=None if exclude is None else dict(_exclusions(exclude, n)),
-                   reference=reference, temperature_errors=temperature_errors)
+                   reference=reference, reference_liquid=reference_liquid,
+                   bubble_depth=bubble_depth, temperature_errors=temperature_errors)
     warn: list[str] = []
 
     curve = None
-    if reference is not None and refmod.has_reference(si.liquid):
-        curve = refmod.reference_curve(si.liquid, reference)
+    compare_with = reference_liquid or si.liquid
+    if reference is not None and refmod.has_reference(compare_with):
+        curve = refmod.reference_curve(compare_with, reference)
+        if reference_liquid and refmod.canonical_name(reference_liquid) != (
+                refmod.canonical_name(si.liquid) if refmod.has_reference(si.liquid) else None):
+            warn.append(f"compared with {curve.liquid}, not with the run's liquid {si.liquid!r}")
     elif reference is not None:
-        warn.append(f"no reference equation for {si.liquid!r}: no comparison made")
+        warn.append(f"no reference equation for {compare_with!r}: no comparison made")
 
     if si.density is not None:
         density = si.density
@@ -392,7 +410,8 @@ def analyze(
     steps = step_sizes(iv)
     mode = "none" if air_from == "injected" else vapor_at_air_reference
     if mode == "reference":
-        p_ref_of = (curve or refmod.reference_curve(si.liquid)).p
+        own = refmod.reference_curve(si.liquid, reference or "auto")
+        p_ref_of = own.p
     else:
         p_ref_of = None
 

@@ -218,9 +218,13 @@ class FitResult:
     residual_cov: np.ndarray | None = field(default=None, repr=False)
 
     # -- values with uncertainty -------------------------------------------
+    @functools.cached_property
+    def _uparams(self):
+        return tuple(uncertainties.correlated_values(list(self.params), self.cov))
+
     def uparams(self):
-        """Parameters as correlated ``uncertainties`` numbers."""
-        return uncertainties.correlated_values(list(self.params), self.cov)
+        """Parameters as correlated ``uncertainties`` numbers (the same objects each call)."""
+        return self._uparams
 
     def _linear(self, value: float, grad: np.ndarray):
         """value + grad·(θ - θ̂) as an uncertain number correlated with θ."""
@@ -513,20 +517,48 @@ def fit_points(
     warn = list(_conditioning_warnings(m, th, cov, Ti, n))
     loo = np.full(n_all, np.nan)
     if influence and n - 1 >= p and n >= 3:
-        # case deletion with the weights of the full fit (no re-iteration)
-        Cfull = np.eye(n) if C is None else C
-        for k, i in enumerate(idx):
-            keep = np.arange(n) != k
-            try:
-                Wk = np.eye(n - 1) if C is None else _whitener(Cfull[np.ix_(keep, keep)])
-                th_k = _solve(m, Ti[keep], yi[keep], Wk, th, space)
-            except (FitError, np.linalg.LinAlgError):
-                continue
-            loo[i] = float(m.enthalpy(T_m, th_k))
+        loo[idx] = _leave_one_out(m, Ti, yi, C, th, space, T_m)
     result = FitResult(m, weighting, th, cov, T, y, inc, res, norm, lev, loo, chi2, dof,
                        chi2_red, scaled, T_m, tuple(warn), space,
                        None if C is None else C)
     return result
+
+
+def _leave_one_out(m: Model, T, y, C, th, space, T_m) -> np.ndarray:
+    """ΔH_vap at T_m with each point left out, keeping the full fit's weights.
+
+    For the linear models all n refits come at once: deleting point k from a
+    generalized least-squares problem with precision matrix P = C^-1 leaves
+    the precision P - P[:, k] P[k, :] / P[k, k] on the other points (Schur
+    complement), so A_k = A - a_k a_k^T / P_kk and b_k = b - a_k (P y)_k / P_kk
+    with A = X^T P X, b = X^T P y, a_k = X^T P[:, k].
+    """
+    n = len(T)
+    out = np.full(n, np.nan)
+    if m.linear and space == "ln_p":
+        X = m.jac(T, None)
+        P = np.eye(n) if C is None else np.linalg.inv(C)
+        A = X.T @ P @ X
+        b = X.T @ P @ y
+        a = X.T @ P  # (p, n): column k is a_k
+        Py = P @ y
+        d = np.diag(P)
+        Ak = A[None] - np.einsum("pk,qk->kpq", a, a) / d[:, None, None]
+        bk = b[None] - (a * (Py / d)).T
+        try:
+            thk = np.linalg.solve(Ak, bk[..., None])[..., 0]
+        except np.linalg.LinAlgError:
+            return out
+        return np.asarray(m.enthalpy(T_m, [thk[:, j] for j in range(m.n_params)]), float)
+    for k in range(n):
+        keep = np.arange(n) != k
+        try:
+            Wk = np.eye(n - 1) if C is None else _whitener(C[np.ix_(keep, keep)])
+            th_k = _solve(m, T[keep], y[keep], Wk, th, space)
+        except (FitError, np.linalg.LinAlgError):
+            continue
+        out[k] = float(m.enthalpy(T_m, th_k))
+    return out
 
 
 @functools.lru_cache(maxsize=256)

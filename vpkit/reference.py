@@ -78,11 +78,8 @@ def canonical_name(liquid: str) -> str:
 
 
 def has_reference(liquid: str) -> bool:
-    try:
-        _row(liquid)
-    except InputError:
-        return False
-    return True
+    """Whether the bundled table has ``liquid`` (aliases and CAS numbers accepted)."""
+    return liquid.strip().lower() in _name_index()
 
 
 @dataclass(frozen=True)
@@ -197,6 +194,7 @@ def _iapws_psat(T):
     return np.vectorize(lambda t: _iapws_psat_scalar(float(t)), otypes=[float])(T)
 
 
+@functools.cache
 def reference_curve(liquid: str, source: str = "auto") -> ReferenceCurve:
     """The reference equation for ``liquid``.
 

@@ -161,21 +161,23 @@ def summary_markdown(a, *, shifts: bool = True) -> str:
     return "\n".join(lines)
 
 
-def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None) -> dict:
-    """Write figure (PNG 300 dpi, SVG), tables (CSV) and summary (Markdown)."""
+def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None,
+                  dpi: int = 300, formats: tuple[str, ...] = ("png", "svg")) -> dict:
+    """Write the figure (``formats`` among png, svg, pdf; PNG at ``dpi``), the
+    tables (CSV) and the summary (Markdown) into ``out_dir``; returns the paths."""
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     stem = stem or (Path(a.run.source).stem if a.run.source else "run")
     fig = a.figure(width_mm=width_mm)
-    paths = {
-        "png": out / f"{stem}.png",
-        "svg": out / f"{stem}.svg",
-        "points": out / f"{stem}_points.csv",
-        "results": out / f"{stem}_results.csv",
-        "summary": out / f"{stem}_summary.md",
-    }
-    fig.savefig(paths["png"], dpi=300)
-    fig.savefig(paths["svg"])
+    paths = {}
+    for fmt in formats:
+        if fmt not in ("png", "svg", "pdf"):
+            raise ValueError(f"figure format must be png, svg or pdf, got {fmt!r}")
+        paths[fmt] = out / f"{stem}.{fmt}"
+        fig.savefig(paths[fmt], dpi=dpi if fmt == "png" else "figure")
+    paths["points"] = out / f"{stem}_points.csv"
+    paths["results"] = out / f"{stem}_results.csv"
+    paths["summary"] = out / f"{stem}_summary.md"
     a.points().to_csv(paths["points"], index=False)
     a.results().to_csv(paths["results"], index=False)
     paths["summary"].write_text(a.summary(), encoding="utf-8")

@@ -1,0 +1,149 @@
+"""Headless tests of the run explorer: controls driven by setting values, clicks
+synthesized as matplotlib mouse events; every readout must equal what
+vpkit.analyze gives for the same choices (common practice, no source: the panel
+does no physics of its own)."""
+
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+import vpkit
+
+pytest.importorskip("ipywidgets")
+from matplotlib.backend_bases import MouseEvent  # noqa: E402
+
+from tests.conftest import make_run  # noqa: E402
+from vpkit.panels import explore  # noqa: E402
+from vpkit.session import session_path  # noqa: E402
+from vpkit.simulate import NOISE  # noqa: E402
+
+
+@pytest.fixture
+def run_file(tmp_path):
+    run = make_run("2-propanol", noise=NOISE, rng=np.random.default_rng(21), boiling_point=355.3)
+    return vpkit.write_run(run, tmp_path / "bench7.csv")
+
+
+def core(panel, **extra):
+    return vpkit.analyze(panel.current_run(), **{**panel.analysis_options(), **extra})
+
+
+def test_core_import_does_not_pull_widgets():
+    code = "import sys, vpkit; vpkit.analyze; print('ipywidgets' in sys.modules)"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"
+
+
+def test_readouts_equal_core_after_checkbox_toggle(run_file):
+    p = explore(run_file)
+    cb, _, _ = p._point_rows[3]
+    cb.value = False  # what a user's click on the checkbox does
+    expected = vpkit.analyze(vpkit.read_run(run_file), exclude={3: "excluded in the explorer"})
+    r = p.readouts()
+    assert r["enthalpy"] == expected.enthalpy.nominal_value
+    assert r["u_enthalpy"] == expected.enthalpy.std_dev
+    assert r["T_b_normal"] == expected.boiling_point().nominal_value
+    assert f"{expected.enthalpy.nominal_value / 1000:.2f}" in p.w_readouts.value
+    assert r["shift"] == pytest.approx(expected.enthalpy.nominal_value
+                                       - vpkit.analyze(run_file).enthalpy.nominal_value)
+
+
+def test_click_on_a_point_toggles_it(run_file):
+    p = explore(run_file, canvas="static")
+    fig = p.figure.fig
+    fig.canvas.draw()
+    x, y = p.figure.pts_in.get_data()
+    target = int(p.figure._idx_in[2])
+    px, py = p.figure.ax.transData.transform((x[2], y[2]))
+    MouseEvent("button_press_event", fig.canvas, px, py, button=1)._process()
+    assert not p.include[target]
+    assert p.readouts()["enthalpy"] == core(p).enthalpy.nominal_value
+    # the excluded point is still drawn, as an excluded point
+    xo, _ = p.figure.pts_out.get_data()
+    assert x[2] in xo
+    MouseEvent("button_press_event", fig.canvas, px, py, button=1)._process()
+    assert p.include[target]
+
+
+def test_exclusions_survive_model_and_correction_changes(run_file):
+    p = explore(run_file)
+    p.toggle(1, "thermometer not settled")
+    p.w_model.value = ("constant_dcp", "gls")
+    p.w_air.value = "injected"
+    p.w_head.value = False
+    assert not p.include[1] and p.reasons[1] == "thermometer not settled"
+    a = p.analysis
+    assert not a.include[1]
+    assert a.enthalpy.nominal_value == core(p).enthalpy.nominal_value
+    assert a.fit.model.name == "constant_dcp" and a.options["air_from"] == "injected"
+
+
+def test_impossible_choice_is_explained_not_raised(run_file):
+    p = explore(run_file)
+    for i in range(6):
+        p.toggle(i)
+    p.w_model.value = ("antoine", "gls")  # 2 points left, 3 parameters
+    assert p.last_error and "at least 3" in p.last_error
+    assert "Cannot analyse" in p.w_messages.value
+    assert p.analysis.fit.model.name == "clausius_clapeyron"  # last valid result kept
+
+
+def test_session_saved_on_every_change_and_restored(run_file):
+    p = explore(run_file)
+    p.toggle(4, "bubble touched the wall")
+    p.w_model.value = ("clausius_clapeyron", "weighted")
+    assert session_path(run_file).exists()
+    q = explore(run_file)
+    assert q.state == p.state
+    assert q.analysis.enthalpy.nominal_value == p.analysis.enthalpy.nominal_value
+    assert "restored" in q.w_messages.value
+
+
+def test_damaged_session_is_kept_aside_not_overwritten(run_file):
+    session_path(run_file).write_text('{"schema": 1, "kind": "vpkit-session", "inc')
+    p = explore(run_file)
+    kept = list(run_file.parent.glob("*.refused-*"))
+    assert len(kept) == 1 and kept[0].read_text().endswith('"inc')
+    assert "damaged" in p.w_messages.value
+
+
+def test_display_units_and_other_pressure(run_file):
+    p = explore(run_file)
+    p.w_tunit.value = "K"
+    p.w_punit.value = "mmHg"
+    assert " K" in p.w_readouts.value and "mmHg" in p.w_readouts.value
+    p.w_pressure.value = 400.0  # mmHg: a reduced-pressure distillation
+    Tb = p.analysis.boiling_point(400.0 * 133.322387415)
+    assert f"{Tb.nominal_value:.2f} K" in p.w_tb_other.value
+
+
+def test_reference_liquid_preselected_and_switchable(run_file):
+    p = explore(run_file)
+    assert p.w_ref.value == "2-propanol"
+    p.w_ref.value = "1-propanol"
+    assert p.analysis.comparison.curve.liquid == "1-propanol"
+    assert any("compared with 1-propanol" in w for w in p.analysis.warnings)
+
+
+def test_export_writes_report_files_at_column_width(run_file, tmp_path):
+    p = explore(run_file)
+    paths = p.export(tmp_path / "report", width_mm=85, dpi=300)
+    assert {"png", "svg", "pdf", "points", "results", "summary"} <= set(paths)
+    from matplotlib.image import imread
+
+    img = imread(paths["png"])
+    assert img.shape[1] == pytest.approx(85 / 25.4 * 300, abs=2)
+    assert "Safety" in paths["summary"].read_text()
+
+
+def test_figure_updates_in_place(run_file):
+    p = explore(run_file, canvas="static")
+    line = p.figure.fit_line
+    before = line.get_ydata().copy()
+    p.toggle(0)
+    assert p.figure.fit_line is line
+    assert not np.array_equal(line.get_ydata(), before)
+    x, y = line.get_data()
+    np.testing.assert_allclose(y, core(p).fit.ln_p(1000.0 / np.asarray(x)), rtol=1e-12)

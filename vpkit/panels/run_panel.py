@@ -1,0 +1,498 @@
+"""The run explorer: toggle points, change choices, watch ΔH_vap respond, export.
+
+The panel does no physics: every change reads the controls, calls
+:func:`vpkit.analyze`, and renders the result. Exclusions, reasons and choices
+are saved to the run's session file on every change and restored the next
+time the same run is explored.
+"""
+
+from __future__ import annotations
+
+import html
+import time
+from pathlib import Path
+from typing import Any
+
+import ipywidgets as W
+import numpy as np
+
+from .. import reference as refmod
+from ..analysis import Analysis, analyze
+from ..constants import P_STANDARD
+from ..errors import VpkitError
+from ..plots import COLUMN_WIDTHS
+from ..report import SAFETY_NOTE, write_outputs
+from ..run import Run, read_run
+from ..session import (
+    SessionError,
+    SessionState,
+    load_session,
+    run_fingerprint,
+    save_session,
+    session_path,
+)
+from ..units import from_si
+from .live_figure import LiveFigure
+
+MODELS = [("Clausius–Clapeyron, full covariance (GLS)", ("clausius_clapeyron", "gls")),
+          ("Clausius–Clapeyron, weighted", ("clausius_clapeyron", "weighted")),
+          ("Clausius–Clapeyron, unweighted", ("clausius_clapeyron", "ordinary")),
+          ("constant ΔCp (Kirchhoff), GLS", ("constant_dcp", "gls")),
+          ("Antoine, GLS", ("antoine", "gls"))]
+AIR = [("weighed room-temperature volume", "weighed"), ("cold reference reading", "cold"),
+       ("injected volume", "injected")]
+VAPOR = [("automatic", "auto"), ("published equation", "reference"),
+         ("self-consistent with the fit", "fit"), ("neglected (biased)", "neglect")]
+PRESSURE_UNITS = ["kPa", "Pa", "hPa", "mbar", "bar", "atm", "mmHg", "Torr", "inHg"]
+TEMPERATURE_UNITS = [("°C", "degC"), ("K", "K"), ("°F", "degF")]
+DEFAULT_CHOICES: dict[str, Any] = {
+    "model": "clausius_clapeyron", "weighting": "gls", "air_from": "weighed",
+    "vapor_at_air_reference": "auto", "use_head": True, "gas_mass": True,
+    "bubble_depth": None, "reference_liquid": None, "pressure_unit": "kPa",
+    "temperature_unit": "degC",
+}
+ANALYSIS_KEYS = ("model", "weighting", "air_from", "vapor_at_air_reference", "use_head",
+                 "gas_mass", "bubble_depth", "reference_liquid")
+
+
+def explore(run_or_path, *, canvas: str = "auto", autosave: bool = True) -> RunPanel:
+    """Open the interactive explorer for a run (a :class:`Run` or a run-file path).
+
+    Parameters
+    ----------
+    canvas : {"auto", "ipympl", "static"}
+        "auto" uses a live ipympl canvas (click points to toggle them) when
+        ipympl is installed, else a static image.
+    autosave : bool
+        Save exclusions, reasons and choices beside the run file on every
+        change (only for runs read from a file).
+    """
+    return RunPanel(run_or_path, canvas=canvas, autosave=autosave)
+
+
+class RunPanel:
+    """Interactive explorer of one run (see :func:`explore`).
+
+    Attributes
+    ----------
+    analysis : Analysis
+        The analysis currently shown.
+    state : dict
+        Include flags, reasons and choices, as saved in the session file.
+    widget : ipywidgets.Widget
+        The whole panel.
+    """
+
+    def __init__(self, run_or_path, *, canvas: str = "auto", autosave: bool = True) -> None:
+        if isinstance(run_or_path, Run):
+            self.run = run_or_path
+            self.path = Path(run_or_path.source) if run_or_path.source and Path(
+                str(run_or_path.source)).exists() else None
+        else:
+            self.path = Path(run_or_path)
+            self.run = read_run(self.path)
+        self.autosave = autosave and self.path is not None
+        self.include = list(self.run.include)
+        self.reasons = list(self.run.reason)
+        self.choices = dict(DEFAULT_CHOICES)
+        if refmod.has_reference(self.run.liquid):
+            self.choices["reference_liquid"] = refmod.canonical_name(self.run.liquid)
+        self.messages: list[str] = []
+        self._restore_session()
+        self.analysis: Analysis | None = None
+        self.previous_enthalpy: float | None = None
+        self.last_error: str | None = None
+        self.timings: dict[str, float] = {}
+        self._building = True
+        self.figure = LiveFigure(on_pick=self.toggle,
+                                 canvas="agg" if canvas == "static" else canvas)
+        self._build_widgets()
+        self._building = False
+        self.refresh()
+
+    # -- session ---------------------------------------------------------------
+    @property
+    def session_file(self) -> Path | None:
+        return None if self.path is None else session_path(self.path)
+
+    def _restore_session(self) -> None:
+        sf = self.session_file
+        if sf is None or not sf.exists():
+            return
+        try:
+            state = load_session(sf, self.run)
+        except SessionError as exc:
+            # keep the refused file for the user, never overwrite it
+            aside = sf.with_name(sf.name + f".refused-{int(time.time())}")
+            sf.rename(aside)
+            self.messages.append(f"{exc} — kept as {aside.name}; starting from the run file")
+            return
+        self.include = list(state.include)
+        self.reasons = list(state.reasons)
+        self.choices.update(state.choices)
+        self.messages.append(f"restored exclusions and choices from {sf.name}")
+
+    @property
+    def state(self) -> dict:
+        """Include flags, reasons and choices (what the session file holds)."""
+        return {"include": list(self.include), "reasons": list(self.reasons),
+                "choices": dict(self.choices)}
+
+    def _save(self) -> None:
+        if not self.autosave:
+            return
+        state = SessionState(run_fingerprint(self.run), tuple(self.include),
+                             tuple(self.reasons), dict(self.choices))
+        save_session(state, self.session_file)
+
+    # -- actions (also the programmatic interface) ------------------------------
+    def toggle(self, index: int, reason: str | None = None) -> None:
+        """Include an excluded point or exclude an included one."""
+        i = int(index)
+        self.include[i] = not self.include[i]
+        if not self.include[i]:
+            self.reasons[i] = reason or self.reasons[i] or "excluded in the explorer"
+        elif reason is not None:
+            self.reasons[i] = reason
+        self._sync_point_widgets(i)
+        self.refresh()
+
+    def set_reason(self, index: int, reason: str) -> None:
+        self.reasons[int(index)] = str(reason)
+        self._save()
+
+    def set_choices(self, **changes) -> None:
+        """Change analysis or display choices (keys of ``DEFAULT_CHOICES``)."""
+        unknown = set(changes) - set(DEFAULT_CHOICES)
+        if unknown:
+            raise KeyError(f"unknown choice(s): {', '.join(sorted(unknown))}")
+        self.choices.update(changes)
+        self._sync_choice_widgets()
+        self.refresh()
+
+    def analysis_options(self) -> dict:
+        """The keyword arguments this panel passes to :func:`vpkit.analyze`."""
+        opts = {k: self.choices[k] for k in ANALYSIS_KEYS}
+        return opts
+
+    def current_run(self) -> Run:
+        return self.run.with_include(self.include, self.reasons)
+
+    def refresh(self) -> None:
+        """Re-analyse with the current points and choices and update every view."""
+        if self._building:
+            return
+        t0 = time.perf_counter()
+        try:
+            a = analyze(self.current_run(), **self.analysis_options())
+        except VpkitError as exc:
+            self.last_error = str(exc)
+            self._show_messages(error=str(exc))
+            self._save()
+            return
+        t1 = time.perf_counter()
+        if self.analysis is not None:
+            self.previous_enthalpy = self.analysis.enthalpy.nominal_value
+        self.analysis = a
+        self.last_error = None
+        self._render_readouts()
+        t2 = time.perf_counter()
+        self.figure.update(a)
+        if self.figure.kind == "agg":
+            self._image.value = self.figure.png()
+        t3 = time.perf_counter()
+        self.timings = {"analyze": t1 - t0, "readouts": t2 - t1, "figure": t3 - t2}
+        self._save()
+
+    # -- numbers for display (units at the edge) -------------------------------
+    def _p(self, pa: float) -> str:
+        unit = self.choices["pressure_unit"]
+        return f"{from_si(pa, unit, 'pressure'):.4g} {unit}"
+
+    def _t(self, kelvin: float) -> str:
+        unit = self.choices["temperature_unit"]
+        label = dict((v, k) for k, v in TEMPERATURE_UNITS)[unit]
+        return f"{from_si(kelvin, unit, 'temperature'):.2f} {label}"
+
+    def _dt(self, kelvin: float) -> str:
+        unit = self.choices["temperature_unit"]
+        v = from_si(kelvin, unit, "temperature", delta=True)
+        return f"{v:.2f} {'K' if unit != 'degF' else '°F'}"
+
+    def readouts(self) -> dict:
+        """The numbers the readout area shows, in SI (for code and tests)."""
+        a = self.analysis
+        f = a.fit
+        dH = f.enthalpy
+        out = {"enthalpy": dH.nominal_value, "u_enthalpy": dH.std_dev, "T_m": f.T_m,
+               "chi2_reduced": f.chi2_reduced,
+               "shift": (None if self.previous_enthalpy is None
+                         else dH.nominal_value - self.previous_enthalpy)}
+        Tb_run = a.boiling_point(a.si.P_bar)
+        Tb_n = a.boiling_point(P_STANDARD)
+        out.update(T_b_run=Tb_run.nominal_value, u_T_b_run=Tb_run.std_dev,
+                   T_b_normal=Tb_n.nominal_value, u_T_b_normal=Tb_n.std_dev)
+        s = f.entropy_at_boiling()
+        out.update(entropy=s.nominal_value, u_entropy=s.std_dev, trouton=f.trouton_verdict())
+        if a.measured_boiling_point is not None:
+            out["T_b_measured"] = a.measured_boiling_point.nominal_value
+        if a.comparison is not None:
+            ref = a.comparison.enthalpy
+            out.update(reference_enthalpy=ref,
+                       deviation_percent=100 * (dH.nominal_value / ref - 1),
+                       deviation_u=(dH.nominal_value - ref) / dH.std_dev)
+        return out
+
+    # -- widgets ----------------------------------------------------------------
+    def _build_widgets(self) -> None:
+        c = self.choices
+        style = {"description_width": "150px"}
+        lay = W.Layout(width="340px")
+        self.w_model = W.Dropdown(options=MODELS, value=(c["model"], c["weighting"]),
+                                  description="fit model", style=style, layout=lay)
+        self.w_air = W.Dropdown(options=AIR, value=c["air_from"], description="air amount from",
+                                style=style, layout=lay)
+        self.w_vapor = W.Dropdown(options=VAPOR, value=c["vapor_at_air_reference"],
+                                  description="p_vap at air reference", style=style, layout=lay)
+        self.w_head = W.Checkbox(value=c["use_head"], description="hydrostatic head",
+                                 indent=False)
+        depth0 = c["bubble_depth"]
+        if depth0 is None:
+            e = self.run.entry("bubble_depth")
+            depth0 = 0.0 if e is None else float(self.run.to_si().depth or 0.0)
+        self.w_depth = W.BoundedFloatText(value=round(depth0 * 100, 3), min=-100, max=100,
+                                          step=0.1, description="bubble depth [cm]",
+                                          style=style, layout=lay)
+        self.w_gas = W.Checkbox(value=c["gas_mass"], description="gas mass in weighing",
+                                indent=False)
+        liquids = refmod.liquids()
+        self.w_ref = W.Dropdown(options=[("none", None)] + [(x, x) for x in liquids],
+                                value=c["reference_liquid"] if c["reference_liquid"] in liquids
+                                else None, description="reference liquid", style=style,
+                                layout=lay)
+        self.w_punit = W.Dropdown(options=PRESSURE_UNITS, value=c["pressure_unit"],
+                                  description="pressure unit", style=style, layout=lay)
+        self.w_tunit = W.Dropdown(options=TEMPERATURE_UNITS, value=c["temperature_unit"],
+                                  description="temperature unit", style=style, layout=lay)
+        for w in (self.w_model, self.w_air, self.w_vapor, self.w_head, self.w_depth, self.w_gas,
+                  self.w_ref, self.w_punit, self.w_tunit):
+            w.observe(self._on_choice, names="value")
+        # boiling point at another pressure
+        self.w_pressure = W.FloatText(value=round(float(from_si(self.run.to_si().P_bar,
+                                                                c["pressure_unit"],
+                                                                "pressure")), 3),
+                                      description="boiling point at", style=style, layout=lay)
+        self.w_pressure.observe(lambda _: self._render_readouts(), names="value")
+        self.w_tb_other = W.HTML()
+        # readouts and messages
+        self.w_readouts = W.HTML()
+        self.w_messages = W.HTML()
+        # points table
+        self._point_rows: list[tuple[W.Checkbox, W.Text, W.HTML]] = []
+        rows = []
+        head = W.HTML("<b>#</b> &nbsp; t, reading, V, p_vap ± u, residual, ΔH shift if left "
+                      "out [kJ/mol]")
+        for i in range(self.run.n_points):
+            cb = W.Checkbox(value=self.include[i], description=str(i), indent=False,
+                            layout=W.Layout(width="60px"))
+            tx = W.Text(value=self.reasons[i], placeholder="reason if excluded",
+                        layout=W.Layout(width="220px"))
+            lab = W.HTML(layout=W.Layout(width="520px"))
+            cb.observe(self._on_include_box(i), names="value")
+            tx.observe(self._on_reason_box(i), names="value")
+            self._point_rows.append((cb, tx, lab))
+            rows.append(W.HBox([cb, tx, lab]))
+        self.w_points = W.VBox([head, *rows])
+        # export
+        self.w_folder = W.Text(value=str(self._default_export_folder()), description="folder",
+                               style=style, layout=W.Layout(width="520px"))
+        self.w_width = W.Dropdown(options=[("single column, 85 mm", COLUMN_WIDTHS["single"]),
+                                           ("double column, 175 mm", COLUMN_WIDTHS["double"])],
+                                  value=COLUMN_WIDTHS["single"], description="figure width",
+                                  style=style, layout=lay)
+        self.w_dpi = W.BoundedIntText(value=300, min=72, max=1200, description="PNG dpi",
+                                      style=style, layout=lay)
+        self.w_export = W.Button(description="Save figure, tables and summary",
+                                 layout=W.Layout(width="280px"))
+        self.w_export_msg = W.HTML()
+        self.w_export.on_click(lambda _: self._on_export())
+        # figure
+        if self.figure.kind == "ipympl":
+            self.w_figure = self.figure.canvas
+            self._image = None
+        else:
+            self._image = W.Image(format="png", layout=W.Layout(width="620px"))
+            self.w_figure = self._image
+        controls = W.VBox([W.HTML("<b>Choices</b>"), self.w_model, self.w_air, self.w_vapor,
+                           self.w_head, self.w_depth, self.w_gas, self.w_ref, self.w_punit,
+                           self.w_tunit, W.HTML("<b>Boiling point at another pressure</b>"),
+                           self.w_pressure, self.w_tb_other],
+                          layout=W.Layout(flex="0 0 auto", min_width="350px"))
+        top = W.HBox([controls, W.VBox([self.w_figure],
+                                       layout=W.Layout(flex="1 1 auto", min_width="420px"))])
+        export = W.VBox([W.HTML("<b>Export for a report</b>"), self.w_folder, self.w_width,
+                         self.w_dpi, self.w_export, self.w_export_msg])
+        safety = W.HTML(f"<small>{html.escape(SAFETY_NOTE)}</small>")
+        self.widget = W.VBox([top, self.w_readouts, self.w_messages,
+                              W.HTML("<b>Points</b> (untick or click a point to exclude it)"),
+                              self.w_points, export, safety])
+
+    def _default_export_folder(self) -> Path:
+        if self.path is not None:
+            return self.path.with_name(self.path.stem + "-report")
+        return Path("vpkit-report")
+
+    def _ipython_display_(self):
+        from IPython.display import display
+
+        display(self.widget)
+
+    def _on_choice(self, change) -> None:
+        if self._building:
+            return
+        model, weighting = self.w_model.value
+        depth_cm = self.w_depth.value
+        self.choices.update(
+            model=model, weighting=weighting, air_from=self.w_air.value,
+            vapor_at_air_reference=self.w_vapor.value, use_head=bool(self.w_head.value),
+            gas_mass=bool(self.w_gas.value), reference_liquid=self.w_ref.value,
+            pressure_unit=self.w_punit.value, temperature_unit=self.w_tunit.value)
+        own = self.run.to_si().depth
+        if own is None and depth_cm == 0.0:
+            self.choices["bubble_depth"] = None
+        elif own is not None and abs(own - depth_cm / 100) < 1e-9:
+            self.choices["bubble_depth"] = None
+        else:
+            self.choices["bubble_depth"] = depth_cm / 100.0
+        if change.owner is self.w_punit:
+            self._building = True
+            old = change.old
+            self.w_pressure.value = round(float(from_si(_to_pa(self.w_pressure.value, old),
+                                                        self.w_punit.value, "pressure")), 4)
+            self._building = False
+        self.refresh()
+
+    def _on_include_box(self, i):
+        def handler(change):
+            if self._building or change.new == self.include[i]:
+                return
+            self.toggle(i)
+        return handler
+
+    def _on_reason_box(self, i):
+        def handler(change):
+            if self._building:
+                return
+            self.set_reason(i, change.new)
+        return handler
+
+    def _sync_point_widgets(self, i: int) -> None:
+        if not hasattr(self, "_point_rows"):
+            return
+        self._building = True
+        cb, tx, _ = self._point_rows[i]
+        cb.value = self.include[i]
+        tx.value = self.reasons[i]
+        self._building = False
+
+    def _sync_choice_widgets(self) -> None:
+        self._building = True
+        c = self.choices
+        self.w_model.value = (c["model"], c["weighting"])
+        self.w_air.value = c["air_from"]
+        self.w_vapor.value = c["vapor_at_air_reference"]
+        self.w_head.value = c["use_head"]
+        self.w_gas.value = c["gas_mass"]
+        if c["bubble_depth"] is not None:
+            self.w_depth.value = round(c["bubble_depth"] * 100, 3)
+        self.w_ref.value = c["reference_liquid"] if c["reference_liquid"] in refmod.liquids() \
+            else None
+        self.w_punit.value = c["pressure_unit"]
+        self.w_tunit.value = c["temperature_unit"]
+        self._building = False
+
+    # -- rendering ----------------------------------------------------------------
+    def _render_readouts(self) -> None:
+        a = self.analysis
+        if a is None:
+            return
+        r = self.readouts()
+        lines = [f"<b>ΔH_vap = {r['enthalpy'] / 1000:.2f} ± {r['u_enthalpy'] / 1000:.2f} "
+                 f"kJ/mol</b> at T_m = {self._t(r['T_m'])}"]
+        if r["shift"] is not None:
+            lines[0] += f" &nbsp; (shift from previous: {r['shift'] / 1000:+.2f} kJ/mol)"
+        lines.append(html.escape(r["trouton"]))
+        lines.append(f"boiling point at the run's pressure ({self._p(a.si.P_bar)}): "
+                     f"{self._t(r['T_b_run'])} ± {self._dt(r['u_T_b_run'])}; at 101.325 kPa: "
+                     f"{self._t(r['T_b_normal'])} ± {self._dt(r['u_T_b_normal'])}")
+        if "T_b_measured" in r:
+            lines.append(f"measured boiling point {self._t(r['T_b_measured'])}; measured − "
+                         f"predicted = {self._dt(r['T_b_measured'] - r['T_b_run'])}")
+        lines.append(f"reduced χ² = {r['chi2_reduced']:.3g}"
+                     + (" (covariance scaled by it)" if a.fit.scaled else ""))
+        if "reference_enthalpy" in r:
+            lines.append(f"{html.escape(a.comparison.curve.label)}: ΔH_vap at T_m = "
+                         f"{r['reference_enthalpy'] / 1000:.2f} kJ/mol; deviation "
+                         f"{r['deviation_percent']:+.1f} % ({r['deviation_u']:+.1f} u)")
+        self.w_readouts.value = "<br>".join(lines)
+        try:
+            P = _to_pa(self.w_pressure.value, self.choices["pressure_unit"])
+            Tb = a.boiling_point(P)
+            self.w_tb_other.value = f"→ {self._t(Tb.nominal_value)} ± {self._dt(Tb.std_dev)}"
+        except (VpkitError, ValueError) as exc:
+            self.w_tb_other.value = f"<span style='color:#a00'>{html.escape(str(exc))}</span>"
+        self._render_points()
+        self._show_messages()
+
+    def _render_points(self) -> None:
+        a = self.analysis
+        f = a.fit
+        ru = self.run.units[1]
+        shift = (f.loo_enthalpy - f.enthalpy.nominal_value) / 1000.0
+        for i, (_, _, lab) in enumerate(self._point_rows):
+            flag = (f" <span style='color:#a00'>⚑ {html.escape('; '.join(a.flags[i]))}</span>"
+                    if a.flags[i] else "")
+            lab.value = (f"{self._t(a.T[i])}, {self.run.reading[i]:g} {html.escape(ru)}, "
+                         f"{a.V[i] * 1e6:.3f} mL, {self._p(a.p_vap[i])} ± "
+                         f"{self._p(a.u_p_vap[i])}, {f.residuals[i]:+.4f}, "
+                         + ("—" if np.isnan(shift[i]) else f"{shift[i]:+.2f}") + flag)
+
+    def _show_messages(self, error: str | None = None) -> None:
+        parts = []
+        if error:
+            parts.append(f"<span style='color:#a00'><b>Cannot analyse with these choices:</b> "
+                         f"{html.escape(error)} (the last valid result stays shown)</span>")
+        warnings = [] if self.analysis is None else list(self.analysis.warnings)
+        parts += [f"⚠ {html.escape(w)}" for w in warnings]
+        parts += [f"<i>{html.escape(m)}</i>" for m in self.messages]
+        self.w_messages.value = "<br>".join(parts)
+
+    # -- export -------------------------------------------------------------------
+    def export(self, folder=None, *, width_mm: float = COLUMN_WIDTHS["single"], dpi: int = 300,
+               formats: tuple[str, ...] = ("png", "svg", "pdf")) -> dict[str, Path]:
+        """Save figure (PNG/SVG/PDF at ``width_mm``), tables (CSV) and summary (Markdown)."""
+        a = self.analysis
+        if a is None:
+            raise VpkitError("nothing to export: the current choices give no analysis")
+        folder = Path(folder) if folder is not None else self._default_export_folder()
+        stem = self.path.stem if self.path is not None else "run"
+        paths = write_outputs(a, folder, width_mm=width_mm, stem=stem, dpi=dpi,
+                              formats=formats)
+        return paths
+
+    def _on_export(self) -> None:
+        try:
+            paths = self.export(self.w_folder.value, width_mm=float(self.w_width.value),
+                                dpi=int(self.w_dpi.value))
+        except (OSError, VpkitError) as exc:
+            self.w_export_msg.value = f"<span style='color:#a00'>{html.escape(str(exc))}</span>"
+            return
+        self.w_export_msg.value = "saved: " + ", ".join(html.escape(p.name)
+                                                        for p in paths.values())
+
+
+def _to_pa(value: float, unit: str) -> float:
+    from ..units import to_si
+
+    return float(to_si(float(value), unit, "pressure"))
+
