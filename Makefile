@@ -9,7 +9,7 @@ OUT ?= out/demo
 $(VENV)/.installed: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install --quiet --upgrade pip
-	$(PY) -m pip install --quiet -e '.[test,notebook,reference]'
+	$(PY) -m pip install --quiet -e '.[test,notebook,reference,browser]'
 	touch $@
 
 demo: $(VENV)/.installed

@@ -12,6 +12,7 @@ Typical use::
 
 from .analysis import Analysis, analyze
 from .errors import (
+    BadValueError,
     FitError,
     ImpossibleDataError,
     InputError,
@@ -38,7 +39,7 @@ def explore(run_or_path, **kwargs):
     return _explore(run_or_path, **kwargs)
 
 __all__ = [
-    "Analysis", "Entry", "FitError", "FitResult", "ImpossibleDataError", "InputError", "Run",
+    "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError", "InputError", "Run",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
     "explore", "fit_points", "format_run", "liquids", "parse_run", "read_run", "reference_curve",
     "write_run",

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import warnings
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -25,7 +26,7 @@ import uncertainties
 
 from . import reference as refmod
 from .constants import P_STANDARD
-from .errors import FitError, InputError
+from .errors import BadValueError, FitError, InputError, VpkitWarning
 from .fit import FitResult, _solve, _whitener, fit_points, get_model
 from .propagate import InputVector, build_inputs, central_jacobian, evaluate, step_sizes
 from .reduce import AIR_METHODS, VAPOR_AT_AIR_REFERENCE, ReductionSetup, point_flags
@@ -178,7 +179,7 @@ class Analysis:
         out = {}
         for label, change in trials.items():
             try:
-                other = self.with_choices(**change)
+                other = analyze(self.run, **{**self.options, **change, "warn": False})
             except (InputError, FitError):
                 continue
             out[label] = other.enthalpy.nominal_value - base
@@ -271,7 +272,7 @@ def _exclusions(exclude, n) -> dict[int, str]:
     for i, why in items:
         i = int(i)
         if not 0 <= i < n:
-            raise InputError(f"cannot exclude point {i}: the run has points 0 to {n - 1}",
+            raise BadValueError(f"cannot exclude point {i}: the run has points 0 to {n - 1}",
                              column="exclude", hint="count points from 0 in file order")
         out[i] = str(why) if why else "excluded by the user"
     return out
@@ -292,6 +293,7 @@ def analyze(
     reference_liquid: str | None = None,
     bubble_depth: float | None = None,
     temperature_errors: bool = True,
+    warn: bool = True,
 ) -> Analysis:
     """Reduce, propagate, fit and compare one run.
 
@@ -327,6 +329,9 @@ def analyze(
         not changed).
     temperature_errors : bool
         Fold the thermometer's uncertainty into the fit (effective variance).
+    warn : bool
+        Also emit each warning as a :class:`vpkit.VpkitWarning` (they are
+        always in ``Analysis.warnings``).
 
     Returns
     -------
@@ -337,18 +342,18 @@ def analyze(
     si = run.to_si()
     if bubble_depth is not None:
         if not np.isfinite(bubble_depth):
-            raise InputError(f"bubble_depth must be a finite length in m, got {bubble_depth!r}",
+            raise BadValueError(f"bubble_depth must be a finite length in m, got {bubble_depth!r}",
                              column="bubble_depth")
         si = dataclasses.replace(si, depth=float(bubble_depth))
     n = len(si.T)
     get_model(model)
     if air_from not in AIR_METHODS:
-        raise InputError(f"air_from must be one of {', '.join(AIR_METHODS)}, got {air_from!r}",
+        raise BadValueError(f"air_from must be one of {', '.join(AIR_METHODS)}, got {air_from!r}",
                          column="air_from")
     if vapor_at_air_reference == "auto":
         vapor_at_air_reference = "reference" if refmod.has_reference(si.liquid) else "fit"
     if vapor_at_air_reference not in VAPOR_AT_AIR_REFERENCE:
-        raise InputError("vapor_at_air_reference must be one of "
+        raise BadValueError("vapor_at_air_reference must be one of "
                          f"{', '.join(VAPOR_AT_AIR_REFERENCE)}, got {vapor_at_air_reference!r}",
                          column="vapor_at_air_reference")
     options = dict(model=model, weighting=weighting, air_from=air_from,
@@ -462,6 +467,14 @@ def analyze(
                          cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T)
     reduced = {k: v[0] for k, v in out.items()}
     warn.extend(fit.warnings)
+    seen: dict[float, int] = {}
+    for i in range(n):
+        key = round(float(si.T[i]), 2)
+        if key in seen:
+            warn.append(f"points {seen[key]} and {i} have the same bath temperature "
+                        f"({si.T[i] - 273.15:.2f} degC): fine for repeated readings, but check "
+                        "for a copied row")
+        seen.setdefault(key, i)
     for i in range(n):
         if flags[i]:
             state = "excluded" if not fit_inc[i] else "still included"
@@ -486,6 +499,9 @@ def analyze(
                       "standard uncertainties off a robust line through the other points: "
                       "suspect (not excluded)" for i, z in suspects.items())
         result = dataclasses.replace(result, warnings=result.warnings + extra)
+    if warn:
+        for message in result.warnings:
+            warnings.warn(message, VpkitWarning, stacklevel=2)
     return result
 
 

@@ -64,10 +64,14 @@ def _rebuild(cls, message, file, row, column, hint):
 
 
 class RunFileError(InputError):
-    """A run file (or table) cannot be read: layout, missing entries, bad text."""
+    """A run file (or table) cannot be read: layout, sections, columns, missing entries."""
 
 
-class UnitError(InputError):
+class BadValueError(InputError):
+    """A value cannot be used as entered: not a number, not finite, an unknown choice."""
+
+
+class UnitError(BadValueError):
     """A unit is missing, unknown, or of the wrong kind for its quantity."""
 
 

@@ -441,6 +441,9 @@ def fit_points(
     inc = np.ones(n_all, bool) if include is None else np.asarray(include, bool)
     idx = np.flatnonzero(inc)
     n, p = len(idx), m.n_params
+    if n == 0:
+        raise FitError("every point is excluded: include at least "
+                       f"{p} points to fit {m.label}", n_points=0, n_params=p)
     if n < p:
         raise FitError(f"{m.label} needs at least {p} included points, got {n}", n_points=n,
                        n_params=p)

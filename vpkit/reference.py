@@ -28,7 +28,7 @@ import numpy as np
 import pandas as pd
 
 from .constants import P_STANDARD, R
-from .errors import InputError
+from .errors import BadValueError, InputError
 from .units import to_si
 
 LN10 = math.log(10.0)
@@ -68,7 +68,7 @@ def _row(liquid: str) -> pd.Series:
     i = _name_index().get(liquid.strip().lower())
     if i is not None:
         return table.loc[i]
-    raise InputError(f"no reference data for liquid {liquid!r}", column="liquid",
+    raise BadValueError(f"no reference data for liquid {liquid!r}", column="liquid",
                      hint="use one of " + ", ".join(table["liquid"]) + ", or reference=None")
 
 

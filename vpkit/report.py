@@ -95,6 +95,13 @@ def results_table(a) -> pd.DataFrame:
     return pd.DataFrame([row])
 
 
+def md_text(text) -> str:
+    """User text made safe for Markdown and HTML: no markup, no table breaks."""
+    import html
+
+    return html.escape(str(text)).replace("|", "\\|").replace("\n", " ").replace("`", "'")
+
+
 def _fmt(x, digits=2):
     return f"{x:.{digits}f}"
 
@@ -107,9 +114,9 @@ def summary_markdown(a, *, shifts: bool = True) -> str:
     """
     f = a.fit
     r = results_table(a).iloc[0]
-    lines = [f"# Vapor-pressure analysis: {a.si.liquid}", ""]
+    lines = [f"# Vapor-pressure analysis: {md_text(a.si.liquid)}", ""]
     if a.run.source:
-        lines += [f"Run file: `{a.run.source}`", ""]
+        lines += [f"Run file: {md_text(a.run.source)}", ""]
     lines += [
         "| quantity | value |",
         "|---|---|",
@@ -147,7 +154,7 @@ def summary_markdown(a, *, shifts: bool = True) -> str:
     if excluded:
         lines += ["", "## Excluded points", ""]
         for i in excluded:
-            why = a.reasons[i] or "no reason given"
+            why = md_text(a.reasons[i]) or "no reason given"
             lines.append(f"- point {i} ({a.T[i] - T_ZERO_C:.2f} °C): {why}")
     if shifts:
         moves = a.choice_shifts()
@@ -156,7 +163,7 @@ def summary_markdown(a, *, shifts: bool = True) -> str:
                       "| choice | ΔH_vap shift [kJ/mol] |", "|---|---|"]
             lines += [f"| {k} | {v / 1000:+.2f} |" for k, v in moves.items()]
     if a.warnings:
-        lines += ["", "## Warnings", ""] + [f"- {w}" for w in a.warnings]
+        lines += ["", "## Warnings", ""] + [f"- {md_text(w)}" for w in a.warnings]
     lines += ["", "> " + SAFETY_NOTE, ""]
     return "\n".join(lines)
 

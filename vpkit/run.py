@@ -36,7 +36,7 @@ from typing import Any
 
 import numpy as np
 
-from .errors import ImpossibleDataError, RunFileError, UnitError
+from .errors import BadValueError, ImpossibleDataError, RunFileError, UnitError
 from .units import check_unit, to_si
 
 FORMAT_LINE = "# vpkit run file, format 1"
@@ -384,14 +384,14 @@ def _parse_number(text: str, source, row, column, decimal=".") -> float:
     if decimal == ",":
         t = t.replace(",", ".")
     elif re.fullmatch(r"[+-]?\d+,\d+", t):
-        raise RunFileError(f"{text!r} looks like a number with a decimal comma", file=source,
+        raise BadValueError(f"{text!r} looks like a number with a decimal comma", file=source,
                            row=row, column=column,
                            hint="use a decimal point, or read with decimal=',' and ';' separators")
     if t.lower() in ("nan", "inf", "+inf", "-inf", "infinity", "-infinity"):
-        raise RunFileError(f"{text!r} is not a finite number", file=source, row=row, column=column,
+        raise BadValueError(f"{text!r} is not a finite number", file=source, row=row, column=column,
                            hint="enter the measured value, or remove the row")
     if not _NUMBER.match(t):
-        raise RunFileError(f"{text!r} is not a number", file=source, row=row, column=column,
+        raise BadValueError(f"{text!r} is not a number", file=source, row=row, column=column,
                            hint="enter a plain number such as 21.5; put the unit in its own column")
     return float(t)
 
@@ -409,7 +409,7 @@ def _entry_from_cells(name, cells, source, row, decimal) -> Entry:
     if kind == "text":
         return Entry(value, unit, None)
     if value == "":
-        raise RunFileError(f"{name} has no value", file=source, row=row, column="value",
+        raise BadValueError(f"{name} has no value", file=source, row=row, column="value",
                            hint="enter the value or delete the row")
     number = _parse_number(value, source, row, "value", decimal)
     if not unit:
@@ -424,7 +424,7 @@ def _entry_from_cells(name, cells, source, row, decimal) -> Entry:
     if unc != "":
         u = _parse_number(unc, source, row, "uncertainty", decimal)
         if u < 0:
-            raise RunFileError(f"{name}: uncertainty {unc} is negative", file=source, row=row,
+            raise BadValueError(f"{name}: uncertainty {unc} is negative", file=source, row=row,
                                column="uncertainty", hint="give a standard uncertainty >= 0")
     return Entry(number, unit, u)
 
@@ -512,7 +512,7 @@ def _build(entries, header, rows, linenos, comments, source, decimal=".", header
                                hint="a decimal comma splits a number in two; use a decimal point")
         for name in ("bath_temperature", "reading"):
             if cell(cells, name) == "":
-                raise RunFileError(f"missing {name}", file=source, row=lineno, column=name,
+                raise BadValueError(f"missing {name}", file=source, row=lineno, column=name,
                                    hint="enter the value or delete the row")
         T.append(_parse_number(cell(cells, "bath_temperature"), source, lineno,
                                "bath_temperature", decimal))
@@ -525,7 +525,7 @@ def _build(entries, header, rows, linenos, comments, source, decimal=".", header
         elif flag in _FALSE:
             inc.append(False)
         else:
-            raise RunFileError(f"include flag {cell(cells, 'include')!r} is not yes or no",
+            raise BadValueError(f"include flag {cell(cells, 'include')!r} is not yes or no",
                                file=source, row=lineno, column="include",
                                hint="write yes or no (empty means yes)")
         why.append(cell(cells, "reason"))
@@ -624,6 +624,10 @@ def _to_si(run: Run) -> RunSI:
                                       "below absolute zero", file=src, row=run.row_of(i),
                                       column="bath_temperature",
                                       hint="check the unit in the column header")
+        if run.reading[i] < 0:
+            raise ImpossibleDataError(f"graduation reading {run.reading[i]} {ru} is negative",
+                                      file=src, row=run.row_of(i), column="reading",
+                                      hint="readings count up from the zero mark; check the sign")
         if not np.isnan(pressure[i]) and pressure[i] <= 0:
             raise ImpossibleDataError(f"pressure {run.pressure[i]} {pu} is not positive", file=src,
                                       row=run.row_of(i), column="pressure",
@@ -671,8 +675,9 @@ def _to_si(run: Run) -> RunSI:
         elif g in ("open end", "open"):
             direction = -1
         else:
-            fail("graduated_from", f"{ge.value!r} is not 'closed end' or 'open end'",
-                 "write 'closed end' when the zero mark is near the closed end")
+            raise BadValueError(f"graduated_from: {ge.value!r} is not 'closed end' or 'open end'",
+                                file=src, column="graduated_from",
+                                hint="write 'closed end' when the zero mark is near the closed end")
     if offset is None and (room_reading is None or m_before is None):
         raise RunFileError("the scale offset can be neither calibrated nor read: give "
                            "room_reading with mass_before_air and mass_after_air, or scale_offset",

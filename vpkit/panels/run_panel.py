@@ -184,7 +184,7 @@ class RunPanel:
             return
         t0 = time.perf_counter()
         try:
-            a = analyze(self.current_run(), **self.analysis_options())
+            a = analyze(self.current_run(), **self.analysis_options(), warn=False)
         except VpkitError as exc:
             self.last_error = str(exc)
             self._show_messages(error=str(exc))
@@ -195,13 +195,15 @@ class RunPanel:
             self.previous_enthalpy = self.analysis.enthalpy.nominal_value
         self.analysis = a
         self.last_error = None
-        self._render_readouts()
+        self._render_readouts(points=False)
         t2 = time.perf_counter()
         self.figure.update(a)
         if self.figure.kind == "agg":
             self._image.value = self.figure.png()
         t3 = time.perf_counter()
-        self.timings = {"analyze": t1 - t0, "readouts": t2 - t1, "figure": t3 - t2}
+        self._render_points()  # the table last: readouts and figure reach the page first
+        self.timings = {"analyze": t1 - t0, "readouts": t2 - t1, "figure": t3 - t2,
+                        "table": time.perf_counter() - t3}
         self._save()
 
     # -- numbers for display (units at the edge) -------------------------------
@@ -247,7 +249,7 @@ class RunPanel:
     def _build_widgets(self) -> None:
         c = self.choices
         style = {"description_width": "150px"}
-        lay = W.Layout(width="340px")
+        lay = W.Layout(width="440px")
         self.w_model = W.Dropdown(options=MODELS, value=(c["model"], c["weighting"]),
                                   description="fit model", style=style, layout=lay)
         self.w_air = W.Dropdown(options=AIR, value=c["air_from"], description="air amount from",
@@ -281,7 +283,8 @@ class RunPanel:
         self.w_pressure = W.FloatText(value=round(float(from_si(self.run.to_si().P_bar,
                                                                 c["pressure_unit"],
                                                                 "pressure")), 3),
-                                      description="boiling point at", style=style, layout=lay)
+                                      description=f"at pressure [{c['pressure_unit']}]",
+                                      style=style, layout=lay)
         self.w_pressure.observe(lambda _: self._render_readouts(), names="value")
         self.w_tb_other = W.HTML()
         # readouts and messages
@@ -327,7 +330,7 @@ class RunPanel:
                            self.w_head, self.w_depth, self.w_gas, self.w_ref, self.w_punit,
                            self.w_tunit, W.HTML("<b>Boiling point at another pressure</b>"),
                            self.w_pressure, self.w_tb_other],
-                          layout=W.Layout(flex="0 0 auto", min_width="350px"))
+                          layout=W.Layout(flex="0 0 auto", min_width="450px"))
         top = W.HBox([controls, W.VBox([self.w_figure],
                                        layout=W.Layout(flex="1 1 auto", min_width="420px"))])
         export = W.VBox([W.HTML("<b>Export for a report</b>"), self.w_folder, self.w_width,
@@ -369,6 +372,7 @@ class RunPanel:
             old = change.old
             self.w_pressure.value = round(float(from_si(_to_pa(self.w_pressure.value, old),
                                                         self.w_punit.value, "pressure")), 4)
+            self.w_pressure.description = f"at pressure [{self.w_punit.value}]"
             self._building = False
         self.refresh()
 
@@ -412,7 +416,7 @@ class RunPanel:
         self._building = False
 
     # -- rendering ----------------------------------------------------------------
-    def _render_readouts(self) -> None:
+    def _render_readouts(self, points: bool = True) -> None:
         a = self.analysis
         if a is None:
             return
@@ -441,8 +445,9 @@ class RunPanel:
             self.w_tb_other.value = f"→ {self._t(Tb.nominal_value)} ± {self._dt(Tb.std_dev)}"
         except (VpkitError, ValueError) as exc:
             self.w_tb_other.value = f"<span style='color:#a00'>{html.escape(str(exc))}</span>"
-        self._render_points()
         self._show_messages()
+        if points:
+            self._render_points()
 
     def _render_points(self) -> None:
         a = self.analysis

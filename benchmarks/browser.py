@@ -1,0 +1,169 @@
+"""Drive the quick-start notebook in a real browser: Voila on 127.0.0.1 + headless Chromium.
+
+Used by ``tests/browser/test_voila.py`` (assertions) and
+``benchmarks/bench_panel.py --browser`` (timings). Needs Debian's ``chromium``
+(/usr/bin/chromium), and the Python packages ``voila`` and ``playwright``
+(Playwright is pointed at that executable; it never downloads a browser).
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import shutil
+import socket
+import statistics
+import subprocess
+import sys
+import time
+import urllib.request
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+CHROMIUM = "/usr/bin/chromium"
+CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                 "--disable-background-networking", "--disable-component-update",
+                 "--disable-sync", "--disable-dev-shm-usage"]
+ENTHALPY = re.compile(r"ΔH_vap = ([0-9.]+) ± ([0-9.]+) kJ/mol</b>")
+
+
+def unavailable() -> str | None:
+    """Why the browser check cannot run here, or None if it can."""
+    if not Path(CHROMIUM).exists():
+        return f"no browser at {CHROMIUM} (apt-get install chromium)"
+    for module in ("voila", "playwright"):
+        try:
+            __import__(module)
+        except ImportError:
+            return f"Python package {module!r} is not installed"
+    return None
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+class VoilaServer:
+    """Serve a copy of the quick-start notebook (with the demo data) on 127.0.0.1."""
+
+    def __init__(self, workdir: Path, notebook: str = "quick_start.ipynb") -> None:
+        self.workdir = Path(workdir)
+        self.notebook = notebook
+        self.port = _free_port()
+        self.proc: subprocess.Popen | None = None
+
+    def __enter__(self) -> VoilaServer:
+        w = self.workdir
+        w.mkdir(parents=True, exist_ok=True)
+        shutil.copytree(ROOT / "data", w / "data", dirs_exist_ok=True)
+        (w / "notebooks").mkdir(exist_ok=True)
+        shutil.copy(ROOT / "notebooks" / self.notebook, w / "notebooks" / self.notebook)
+        env = dict(os.environ)
+        for var, sub in (("HOME", "home"), ("IPYTHONDIR", "ipython"), ("MPLCONFIGDIR", "mpl"),
+                         ("JUPYTER_CONFIG_DIR", "jcfg"), ("JUPYTER_DATA_DIR", "jdata"),
+                         ("JUPYTER_RUNTIME_DIR", "jrun")):
+            env[var] = str(w / sub)
+        self.log = open(w / "voila.log", "w")  # noqa: SIM115
+        self.proc = subprocess.Popen(
+            [sys.executable, "-m", "voila", self.notebook, "--no-browser",
+             f"--port={self.port}", "--Voila.ip=127.0.0.1", "--Voila.port_retries=0"],
+            cwd=w / "notebooks", env=env, stdout=self.log, stderr=subprocess.STDOUT)
+        deadline = time.time() + 90
+        while time.time() < deadline:
+            if self.proc.poll() is not None:
+                raise RuntimeError(f"voila exited early; see {w / 'voila.log'}")
+            try:
+                with urllib.request.urlopen(f"{self.url}voila/static/voila.js", timeout=2):
+                    return self
+            except OSError:
+                time.sleep(0.5)
+        raise RuntimeError("voila did not answer within 90 s")
+
+    @property
+    def url(self) -> str:
+        return f"http://127.0.0.1:{self.port}/"
+
+    def __exit__(self, *exc) -> None:
+        if self.proc is not None:
+            self.proc.terminate()
+            try:
+                self.proc.wait(timeout=15)
+            except subprocess.TimeoutExpired:
+                self.proc.kill()
+        self.log.close()
+
+
+CANVAS = "canvas"
+_SNAPSHOT = """() => Array.from(document.querySelectorAll('canvas'))
+    .map(c => { try { return c.toDataURL(); } catch (e) { return ''; } }).join('|')"""
+
+
+def _enthalpy(page) -> tuple[str, str]:
+    html = page.inner_html("body")
+    m = ENTHALPY.search(html)
+    if not m:
+        raise AssertionError("no ΔH_vap readout on the page")
+    return m.group(1), m.group(2)
+
+
+def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
+    """Open the page, toggle ``point`` by its checkbox ``clicks`` times, measure.
+
+    Returns the ΔH_vap readouts (text) before and after the first toggle, the
+    click -> readout and click -> repainted-canvas times [ms], and the
+    screenshot path.
+    """
+    from playwright.sync_api import sync_playwright
+
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    with VoilaServer(out_dir / "served") as server, sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        page = browser.new_page(viewport={"width": 1400, "height": 1800})
+        page.set_default_timeout(60_000)
+        page.goto(server.url, timeout=60_000)
+        page.wait_for_function("() => document.body.innerText.includes('kJ/mol')",
+                               timeout=60_000)
+        box = page.locator(".widget-checkbox").filter(
+            has=page.locator(f"span[title='{point}'], span:text-is('{point}')")
+        ).locator("input[type=checkbox]").first
+        box.wait_for()
+        page.wait_for_timeout(1500)  # let the first frames arrive
+        before = _enthalpy(page)
+        readout_ms, repaint_ms = [], []
+        after = None
+        for k in range(clicks):
+            snap = page.evaluate(_SNAPSHOT)
+            text0 = _enthalpy(page)
+            t0 = time.perf_counter()
+            box.click()
+            page.wait_for_function(
+                "([re, old]) => { const m = document.body.innerHTML.match(new RegExp(re));"
+                " return m && m[1] !== old; }", arg=[ENTHALPY.pattern, text0[0]],
+                polling="raf")
+            t1 = time.perf_counter()
+            page.wait_for_function(f"(old) => ({_SNAPSHOT})() !== old", arg=snap,
+                                   polling="raf")
+            t2 = time.perf_counter()
+            readout_ms.append(1e3 * (t1 - t0))
+            repaint_ms.append(1e3 * (t2 - t0))
+            if k == 0:
+                after = _enthalpy(page)
+                shot = out_dir / "explorer_after_toggle.png"
+                page.screenshot(path=str(shot), full_page=True)
+        browser.close()
+    return {"before": before, "after": after, "readout_ms": readout_ms,
+            "repaint_ms": repaint_ms, "screenshot": shot}
+
+
+def measure_click_to_repaint(out_dir: Path) -> str:
+    """One line for the benchmark script."""
+    why = unavailable()
+    if why:
+        return f"skipped: {why}"
+    r = run_session(out_dir, clicks=9)
+    return (f"click -> readout median {statistics.median(r['readout_ms']):.0f} ms, "
+            f"click -> repainted canvas median {statistics.median(r['repaint_ms']):.0f} ms "
+            f"(aim < 150 ms) over {len(r['repaint_ms'])} clicks; screenshot {r['screenshot']}")
