@@ -39,7 +39,8 @@ def explore(run_or_path, **kwargs):
     return _explore(run_or_path, **kwargs)
 
 __all__ = [
-    "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError", "InputError", "Run",
+    "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError",
+    "InputError", "Run",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
     "explore", "fit_points", "format_run", "liquids", "parse_run", "read_run", "reference_curve",
     "write_run",

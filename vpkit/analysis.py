@@ -362,7 +362,7 @@ def analyze(
                    exclude=None if exclude is None else dict(_exclusions(exclude, n)),
                    reference=reference, reference_liquid=reference_liquid,
                    bubble_depth=bubble_depth, temperature_errors=temperature_errors)
-    warn: list[str] = []
+    msgs: list[str] = []
 
     curve = None
     compare_with = reference_liquid or si.liquid
@@ -370,9 +370,9 @@ def analyze(
         curve = refmod.reference_curve(compare_with, reference)
         if reference_liquid and refmod.canonical_name(reference_liquid) != (
                 refmod.canonical_name(si.liquid) if refmod.has_reference(si.liquid) else None):
-            warn.append(f"compared with {curve.liquid}, not with the run's liquid {si.liquid!r}")
+            msgs.append(f"compared with {curve.liquid}, not with the run's liquid {si.liquid!r}")
     elif reference is not None:
-        warn.append(f"no reference equation for {compare_with!r}: no comparison made")
+        msgs.append(f"no reference equation for {compare_with!r}: no comparison made")
 
     if si.density is not None:
         density = si.density
@@ -466,32 +466,32 @@ def analyze(
         fit = fit_points(si.T, lnp[0], model=model, weighting=weighting, include=fit_inc,
                          cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T)
     reduced = {k: v[0] for k, v in out.items()}
-    warn.extend(fit.warnings)
+    msgs.extend(fit.warnings)
     seen: dict[float, int] = {}
     for i in range(n):
         key = round(float(si.T[i]), 2)
         if key in seen:
-            warn.append(f"points {seen[key]} and {i} have the same bath temperature "
+            msgs.append(f"points {seen[key]} and {i} have the same bath temperature "
                         f"({si.T[i] - 273.15:.2f} degC): fine for repeated readings, but check "
                         "for a copied row")
         seen.setdefault(key, i)
     for i in range(n):
         if flags[i]:
             state = "excluded" if not fit_inc[i] else "still included"
-            warn.append(f"point {i} ({si.T[i] - 273.15:.2f} degC), {state}: " + "; ".join(flags[i]))
+            msgs.append(f"point {i} ({si.T[i] - 273.15:.2f} degC), {state}: " + "; ".join(flags[i]))
     comparison = None
     if curve is not None:
         comparison = refmod.compare_to_reference(curve, si.T, reduced["p_vap"], fit_inc, fit.T_m)
-        warn.extend(comparison.warnings)
+        msgs.extend(comparison.warnings)
     Tb = fit.boiling_point(P_STANDARD).nominal_value
     span = fit.T[fit_inc].max() - fit.T[fit_inc].min()
     if Tb - fit.T[fit_inc].max() > max(10.0, span):
-        warn.append(f"the normal boiling point ({Tb - 273.15:.1f} degC) lies "
+        msgs.append(f"the normal boiling point ({Tb - 273.15:.1f} degC) lies "
                     f"{Tb - fit.T[fit_inc].max():.0f} K beyond the highest point: an extrapolation")
     u_p = np.sqrt(np.diag(cov_y)) * reduced["p_vap"]
     result = Analysis(run, options, si.T, reduced["V"], reduced["P_total"], reduced["p_air"],
                     reduced["p_vap"], u_p, cov_y, float(reduced["n_air"]), float(p_ref),
-                    fit_inc, tuple(fit_reasons), tuple(flags), fit, comparison, tuple(warn),
+                    fit_inc, tuple(fit_reasons), tuple(flags), fit, comparison, tuple(msgs),
                     iv, J, si, setup)
     suspects = result.robust_outliers()
     if suspects:

@@ -353,7 +353,7 @@ def parse_run(data: bytes | str, *, source: str = "<text>", decimal: str = ".") 
 
 def _decode(data: bytes | str, source: str) -> str:
     if isinstance(data, str):
-        return data.lstrip("\ufeff")
+        data = data.encode("utf-8", "surrogatepass")
     if data.startswith(b"\xef\xbb\xbf"):
         data = data[3:]
     if b"\x00" in data:

@@ -6,7 +6,7 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.errors import ImpossibleDataError, RunFileError, UnitError
+from vpkit.errors import BadValueError, ImpossibleDataError, RunFileError, UnitError
 
 GOOD = """# a comment kept on round trip
 [run]
@@ -70,11 +70,11 @@ def test_three_unit_sets_give_identical_results():
     ("", RunFileError, None),
     (GOOD.replace("100.2,kPa", "100.2,mL"), UnitError, (5, "unit")),
     (GOOD.replace("100.2,kPa", "100.2,"), UnitError, (5, "unit")),
-    (GOOD.replace("25.0,2.1", "25.0,abc"), RunFileError, (13, "reading")),
-    (GOOD.replace("25.0,2.1", "25.0,nan"), RunFileError, (13, "reading")),
+    (GOOD.replace("25.0,2.1", "25.0,abc"), BadValueError, (13, "reading")),
+    (GOOD.replace("25.0,2.1", "25.0,nan"), BadValueError, (13, "reading")),
     (GOOD.replace("[degC]", ""), UnitError, (12, "bath_temperature")),
     (GOOD.replace("liquid,ethanol,,\n", ""), RunFileError, (None, "liquid")),
-    (GOOD.replace("yes,", "maybe,"), RunFileError, (13, "include")),
+    (GOOD.replace("yes,", "maybe,"), BadValueError, (13, "include")),
     (GOOD.replace("room_temperature", "room_temprature"), RunFileError, (6, "quantity")),
 ])
 def test_errors_name_the_place(text, error, where):
@@ -90,7 +90,7 @@ def test_errors_name_the_place(text, error, where):
 
 def test_decimal_comma_is_refused_with_a_hint_or_read_on_request():
     text = GOOD.replace(",", ";").replace("25.0;2.1", "25,0;2,1")
-    with pytest.raises(RunFileError, match="decimal comma"):
+    with pytest.raises(BadValueError, match="decimal comma"):
         vpkit.parse_run(text)
     run = vpkit.parse_run(text.replace("100.2", "100,2"), decimal=",")
     assert run.bath_temperature[0] == 25.0 and run.reading[0] == 2.1

@@ -1,0 +1,234 @@
+"""Catalogue of bad inputs: each case asserts the exact error (or warning) type and
+that the message names the place (file, row, column) and says how to fix it.
+Expectations are ours (common practice, no source): what a careful bench user
+needs to find and fix the entry."""
+
+import warnings
+
+import pytest
+
+import vpkit
+from vpkit.errors import (
+    BadValueError,
+    FitError,
+    ImpossibleDataError,
+    InputError,
+    RunFileError,
+    UnitError,
+    VpkitError,
+    VpkitWarning,
+)
+from vpkit.session import SessionError, SessionState, load_session, save_session
+
+# A plausible ethanol run (values rounded from a simulation of the Poling et al.
+# Antoine equation; used only as a well-formed base to damage).
+BASE = """[run]
+quantity,value,unit,uncertainty
+liquid,ethanol,,
+barometric_pressure,100.2,kPa,0.1
+room_temperature,21.0,degC,0.3
+room_reading,1.85,mL,
+mass_before_air,30.0000,g,0.001
+mass_after_air,28.4230,g,0.001
+liquid_density,reference,,
+injected_air_volume,1.95,mL,
+boiling_point,78.3,degC,
+[readings]
+bath_temperature [degC],reading [mL],include,reason
+25.0,1.993,yes,
+30.0,2.089,yes,
+35.0,2.216,yes,
+40.0,2.389,yes,
+45.0,2.627,yes,
+50.0,2.965,yes,
+"""
+# line numbers of BASE: 1 [run], 2 header, 3 liquid, 4 barometric_pressure, 5 room_temperature,
+# 6 room_reading, 7 mass_before, 8 mass_after, 9 density, 10 injected, 11 boiling point,
+# 12 [readings], 13 header, 14..19 readings
+
+
+def sub(old, new, count=1):
+    assert old in BASE, old
+    return BASE.replace(old, new, count)
+
+
+def load(text):
+    return vpkit.parse_run(text, source="bench4.csv")
+
+
+# (id, text, error type, row, column) -- raised by parse_run(...).to_si()
+FILE_CASES = [
+    ("empty file", "", RunFileError, None, None),
+    ("only blank lines", "\n\n  \n", RunFileError, None, None),
+    ("binary file", "\x00\x01\x02", RunFileError, None, None),
+    ("no run section", BASE.split("[readings]")[1], RunFileError, 2, None),
+    ("no readings section", BASE.split("[readings]")[0], RunFileError, None, None),
+    ("only a header", BASE.split("25.0,1.993")[0], RunFileError, 13, None),
+    ("missing required metadata", sub("barometric_pressure,100.2,kPa,0.1\n", ""), RunFileError,
+     None, "barometric_pressure"),
+    ("missing liquid", sub("liquid,ethanol,,\n", ""), RunFileError, None, "liquid"),
+    ("missing reading column", sub("reading [mL]", "volume [mL]"), RunFileError, 13,
+     "volume [mL]"),
+    ("duplicate column", sub("include,reason", "include,include"), RunFileError, 13, "include"),
+    ("unknown quantity (typo)", sub("room_temperature", "room_temprature"), RunFileError, 5,
+     "quantity"),
+    ("quantity given twice", sub("liquid,ethanol,,\n", "liquid,ethanol,,\nliquid,water,,\n"),
+     RunFileError, 4, "quantity"),
+    ("unknown unit", sub("100.2,kPa", "100.2,kilopond"), UnitError, 4, "unit"),
+    ("missing unit in metadata", sub("100.2,kPa", "100.2,"), UnitError, 4, "unit"),
+    ("missing unit in header", sub("[degC],reading", ",reading"), UnitError, 13,
+     "bath_temperature"),
+    ("pressure in mL", sub("100.2,kPa", "100.2,mL"), UnitError, 4, "unit"),
+    ("temperature column in kPa", sub("bath_temperature [degC]", "bath_temperature [kPa]"),
+     UnitError, 13, "bath_temperature"),
+    ("non-numeric cell", sub("35.0,2.216", "35.0,2.2l6"), BadValueError, 16, "reading"),
+    ("decimal comma", sub("35.0,2.216", "35.0,\"2,216\""), BadValueError, 16, "reading"),
+    ("NaN value", sub("35.0,2.216", "35.0,nan"), BadValueError, 16, "reading"),
+    ("inf value", sub("room_temperature,21.0", "room_temperature,inf"), BadValueError, 5,
+     "value"),
+    ("metadata value missing", sub("room_reading,1.85,mL", "room_reading,,mL"), BadValueError,
+     6, "value"),
+    ("reading missing", sub("35.0,2.216", "35.0,"), BadValueError, 16, "reading"),
+    ("bad include flag", sub("30.0,2.089,yes", "30.0,2.089,perhaps"), BadValueError, 15,
+     "include"),
+    ("negative uncertainty", sub("100.2,kPa,0.1", "100.2,kPa,-0.1"), BadValueError, 4,
+     "uncertainty"),
+    ("too many cells (decimal comma)", sub("35.0,2.216,yes,", "35,0,2,216,yes,"),
+     RunFileError, 16, None),
+    ("negative reading", sub("35.0,2.216", "35.0,-2.216"), ImpossibleDataError, 16, "reading"),
+    ("zero barometric pressure", sub("100.2,kPa", "0,kPa"), ImpossibleDataError, None,
+     "barometric_pressure"),
+    ("negative mass", sub("30.0000,g", "-30.0000,g"), ImpossibleDataError, None,
+     "mass_before_air"),
+    ("zero injected volume", sub("1.95,mL", "0,mL"), ImpossibleDataError, None,
+     "injected_air_volume"),
+    ("below absolute zero", sub("25.0,1.993", "-300.0,1.993"), ImpossibleDataError, 14,
+     "bath_temperature"),
+    ("celsius labelled kelvin", sub("bath_temperature [degC]", "bath_temperature [K]"),
+     ImpossibleDataError, 19, "bath_temperature"),
+    ("kelvin labelled celsius", BASE.replace("25.0,", "298.2,").replace("30.0,", "303.2,")
+     .replace("35.0,", "308.2,").replace("40.0,", "313.2,").replace("45.0,", "318.2,")
+     .replace("50.0,", "323.2,"), ImpossibleDataError, 14, "bath_temperature"),
+    ("masses swapped", sub("mass_before_air,30.0000", "mass_before_air,28.0000"),
+     ImpossibleDataError, None, "mass_after_air"),
+    ("one mass only", sub("mass_after_air,28.4230,g,0.001\n", ""), ImpossibleDataError, None,
+     "mass_after_air"),
+    ("bad graduated_from", sub("boiling_point", "graduated_from,sideways,,\nboiling_point"),
+     BadValueError, None, "graduated_from"),
+    ("no weighing and no offset",
+     sub("mass_before_air,30.0000,g,0.001\nmass_after_air,28.4230,g,0.001\n", ""),
+     RunFileError, None, "scale_offset"),
+]
+
+
+@pytest.mark.parametrize("case", FILE_CASES, ids=[c[0] for c in FILE_CASES])
+def test_bad_file(case):
+    _, text, error, row, column = case
+    with pytest.raises(VpkitError) as info:
+        load(text).to_si()
+    err = info.value
+    assert type(err) is error, f"{type(err).__name__}: {err}"
+    assert isinstance(err, ValueError)
+    assert err.file == "bench4.csv" and "bench4.csv" in str(err)
+    assert err.row == row
+    if column is not None:
+        assert err.column == column
+    assert err.hint or err.message  # says what was found and how to fix it
+
+
+# (id, text, analyze options, error type, message fragment)
+ANALYSIS_CASES = [
+    ("fewer than two included points",
+     BASE.replace(",yes,", ",no,off,").replace("25.0,1.993,no,off", "25.0,1.993,yes,")
+     .replace("30.0,2.089,no,off", "30.0,2.089,yes,"), {"exclude": [0]}, FitError,
+     "at least 2"),
+    ("fewer than three for Antoine", BASE, {"model": "antoine", "exclude": [0, 1, 2, 3]},
+     FitError, "at least 3"),
+    ("every point excluded", BASE.replace(",yes,", ",no,bad batch,"), {}, FitError,
+     "every point is excluded"),
+    ("unknown model", BASE, {"model": "magic"}, FitError, "unknown fit model"),
+    ("unknown air method", BASE, {"air_from": "guess"}, BadValueError, "air_from"),
+    ("exclude out of range", BASE, {"exclude": [12]}, BadValueError, "points 0 to 5"),
+    ("injected without volume", sub("injected_air_volume,1.95,mL,\n", ""),
+     {"air_from": "injected"}, InputError, "injected_air_volume"),
+    ("density from reference, unknown liquid", sub("liquid,ethanol", "liquid,unobtainium"),
+     {"reference": None}, InputError, "liquid_density"),
+]
+
+
+@pytest.mark.parametrize("case", ANALYSIS_CASES, ids=[c[0] for c in ANALYSIS_CASES])
+def test_bad_analysis_request(case):
+    _, text, options, error, fragment = case
+    with pytest.raises(VpkitError) as info:
+        vpkit.analyze(load(text), **options)
+    assert type(info.value) is error
+    assert fragment in str(info.value)
+
+
+# computable but suspect: flagged, shown, never silently dropped
+WARN_CASES = [
+    ("duplicate temperatures", sub("35.0,2.216", "30.0,2.216"), "same bath temperature", None),
+    ("volume shrinks as temperature rises", sub("35.0,2.216", "35.0,2.050"),
+     "smaller than at a lower temperature", 2),
+    ("bubble below the air-only volume", sub("25.0,1.993", "25.0,1.700"),
+     "vapor pressure <= 0", 0),
+    ("bath above measured boiling point", sub("boiling_point,78.3", "boiling_point,48.0"),
+     "above the measured boiling point", 5),
+]
+
+
+@pytest.mark.parametrize("case", WARN_CASES, ids=[c[0] for c in WARN_CASES])
+def test_suspect_but_computable(case):
+    _, text, fragment, point = case
+    with pytest.warns(VpkitWarning, match=fragment.replace("(", r"\(")):
+        a = vpkit.analyze(load(text))
+    assert len(a.T) == 6  # nothing dropped
+    if point is not None:
+        assert any(fragment in f for f in a.flags[point])
+        assert fragment in "".join(a.points()["flags"])
+
+
+def test_encodings_are_read(tmp_path):
+    p = tmp_path / "bom.csv"
+    p.write_bytes(b"\xef\xbb\xbf" + BASE.encode())
+    assert vpkit.read_run(p).n_points == 6
+    p.write_bytes(sub("liquid,ethanol,,", "notes,Bürette 3 (°C),,\nliquid,ethanol,,")
+                  .encode("latin-1"))
+    assert vpkit.read_run(p).entry("notes").value == "Bürette 3 (°C)"
+
+
+@pytest.mark.parametrize("kind", ["another run", "truncated", "hand-edited"])
+def test_bad_session_files(tmp_path, kind):
+    run = load(BASE)
+    path = tmp_path / "s.json"
+    save_session(SessionState.from_run(run), path)
+    if kind == "another run":
+        run = load(sub("35.0,2.216", "35.0,2.217"))
+    elif kind == "truncated":
+        path.write_text(path.read_text()[:40])
+    else:
+        path.write_text(path.read_text().replace('"include": [', '"include": ["yes", '))
+    with pytest.raises(SessionError) as info:
+        load_session(path, run)
+    assert info.value.file == str(path)
+
+
+def test_no_code_from_data():
+    """No eval/exec and no pickle anywhere in the package (run files are data)."""
+    import pathlib
+
+    src = pathlib.Path(vpkit.__file__).parent
+    for f in src.rglob("*.py"):
+        text = f.read_text()
+        for banned in ("eval(", "exec(", "pickle", "yaml.load("):
+            assert banned not in text, f"{banned} in {f}"
+
+
+def test_catalogue_size():
+    assert len(FILE_CASES) + len(ANALYSIS_CASES) + len(WARN_CASES) + 3 + 2 >= 30
+
+
+def test_warnings_can_be_silenced():
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", VpkitWarning)
+        vpkit.analyze(load(BASE), warn=False)
