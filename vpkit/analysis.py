@@ -517,6 +517,11 @@ def _jacobian(batch, iv, steps, p_ref, n):
         return np.concatenate([lnp, out["T"]], axis=1)
 
     J = central_jacobian(f, iv.nominal, steps)
+    # the T rows are a selector: write it exactly rather than as a difference quotient
+    J[n:] = 0.0
+    for j, (name, i) in enumerate(iv.fields):
+        if name == "T":
+            J[n + i, j] = 1.0
     h = max(abs(p_ref) * 1e-6, 1e-3)
     u0 = iv.nominal[None, :]
     _, up = batch(u0, np.array([p_ref + h]))
