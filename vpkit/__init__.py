@@ -38,10 +38,20 @@ def explore(run_or_path, **kwargs):
 
     return _explore(run_or_path, **kwargs)
 
+
+def overview(source, **options):
+    """Open the many-run overview panel (needs ``pip install 'vpkit[notebook]'``).
+
+    See :func:`vpkit.panels.overview`.
+    """
+    from .panels import overview as _overview
+
+    return _overview(source, **options)
+
 __all__ = [
     "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError",
     "InputError", "Run",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
-    "explore", "fit_points", "format_run", "liquids", "parse_run", "read_run", "reference_curve",
-    "write_run",
+    "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "read_run",
+    "reference_curve", "write_run",
 ]

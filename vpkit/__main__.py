@@ -24,7 +24,17 @@ def main(argv: list[str] | None = None) -> int:
                    choices=["auto", "reference", "fit", "neglect"])
     p.add_argument("--no-head", action="store_true", help="ignore the hydrostatic head")
     p.add_argument("--width-mm", type=float, default=85.0, help="figure width (85 or 175)")
+    q = sub.add_parser("report", help="summary, flags and a self-contained report for many runs")
+    q.add_argument("source", type=Path, help="a folder of run files or a long-table CSV")
+    q.add_argument("--out", type=Path, default=Path("vpkit-report"), help="output folder")
+    q.add_argument("--weighting", default="gls", choices=["gls", "weighted", "ordinary"])
+    q.add_argument("--air-from", default="weighed", choices=["weighed", "cold", "injected"])
+    q.add_argument("--vapor-at-air-reference", default="auto",
+                   choices=["auto", "reference", "neglect"])
+    q.add_argument("--no-head", action="store_true", help="ignore the hydrostatic head")
     args = parser.parse_args(argv)
+    if args.command == "report":
+        return _report(args)
 
     from .analysis import analyze
     from .report import SAFETY_NOTE, write_outputs
@@ -57,6 +67,30 @@ def main(argv: list[str] | None = None) -> int:
         print(f"  wrote {', '.join(str(p) for p in paths.values())}")
     print(SAFETY_NOTE)
     return status
+
+
+def _report(args) -> int:
+    from .report import SAFETY_NOTE, write_batch_report
+
+    try:
+        res = write_batch_report(args.source, args.out, weighting=args.weighting,
+                                 air_from=args.air_from,
+                                 vapor_at_air_reference=args.vapor_at_air_reference,
+                                 use_head=not args.no_head)
+    except VpkitError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    summary = res["summary"]
+    flagged = summary[summary["flags"] != ""]
+    print(f"{len(summary)} run(s) analysed, {len(flagged)} flagged, "
+          f"{len(res['failed'])} could not be read")
+    for _, r in flagged.iterrows():
+        print(f"  {r['run_id']}: {r['flag reasons']}")
+    for src, msg in res["failed"]:
+        print(f"  not read: {src}: {msg}")
+    print(f"wrote {res['html']}, {res['markdown']}, {res['summary_csv']}")
+    print(SAFETY_NOTE)
+    return 0
 
 
 if __name__ == "__main__":

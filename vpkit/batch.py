@@ -81,6 +81,8 @@ class LoadResult:
     table: pd.DataFrame
     failed: tuple[tuple[str, str], ...] = ()
     runs: Mapping[str, Run] = field(default_factory=dict)
+    notes: tuple[str, ...] = ()
+    paths: Mapping[str, Path] = field(default_factory=dict)
 
     @property
     def run_ids(self) -> list[str]:
@@ -124,27 +126,38 @@ def runs_to_table(runs: Mapping[str, Run]) -> pd.DataFrame:
     return pd.concat(frames, ignore_index=True)
 
 
-def read_runs(source, *, pattern: str = "*.csv") -> LoadResult:
+def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadResult:
     """Read a folder of run files, or one long table (a CSV with a ``run_id`` column).
 
     A bad run is reported in ``failed`` (its file or run id, and the error
     naming row and column); the others still load. Nothing is skipped silently.
+    With ``sessions``, a run file's session (exclusions made in the explorer) is
+    applied; a session that does not match its run is reported in ``notes`` and
+    the run is used as its file says.
     """
+    from .session import SessionError, load_session, session_path
+
     source = Path(source)
     if source.is_dir():
         runs: dict[str, Run] = {}
-        failed = []
+        paths: dict[str, Path] = {}
+        failed, notes = [], []
         for path in sorted(source.glob(pattern)):
-            if path.name.endswith(".vpkit-session.json"):
-                continue
             try:
                 run = read_run(path)
                 run.to_si()
             except VpkitError as exc:
                 failed.append((str(path), str(exc)))
                 continue
+            sp = session_path(path)
+            if sessions and sp.exists():
+                try:
+                    run = load_session(sp, run).apply(run)
+                except SessionError as exc:
+                    notes.append(f"{path.name}: session not applied: {exc}")
             runs[path.stem] = run
-        return LoadResult(runs_to_table(runs), tuple(failed), runs)
+            paths[path.stem] = path
+        return LoadResult(runs_to_table(runs), tuple(failed), runs, tuple(notes), paths)
     try:
         table = pd.read_csv(source, comment="#", dtype={"run_id": str, "reason": str,
                                                         "include": str},
@@ -157,6 +170,47 @@ def read_runs(source, *, pattern: str = "*.csv") -> LoadResult:
     table.attrs["source"] = str(source)
     good, failed = split_valid(table)
     return LoadResult(good, failed)
+
+
+def table_to_runs(table: pd.DataFrame) -> dict[str, Run]:
+    """Run objects from a long table (for per-run figures and the explorer).
+
+    Values and units are taken as the table gives them.
+    """
+    from .run import Entry
+
+    out: dict[str, Run] = {}
+    cols = {(_split(c)[0]): c for c in table.columns}
+    reading_cols = [cols[n] for n in _READING_NAMES if n in cols]
+    for run_id, part in table.groupby("run_id", sort=False):
+        first = part.iloc[0]
+        meta = {}
+        for name, (kind, _, _) in FIELDS.items():
+            col = cols.get(name)
+            if col is None or pd.isna(first[col]) or str(first[col]).strip() in ("", "nan"):
+                continue
+            if kind == "text" or (name == "liquid_density" and
+                                  str(first[col]).strip().lower() == "reference"):
+                meta[name] = Entry(str(first[col]).strip() if kind == "text" else "reference")
+                continue
+            ucol = cols.get(f"u({name})")
+            u = None
+            if ucol is not None and pd.notna(first[ucol]):
+                u = float(to_si(float(first[ucol]), _split(ucol)[1], kind, delta=True)
+                          / to_si(1.0, _split(col)[1], kind, delta=True))
+            meta[name] = Entry(float(first[col]), _split(col)[1], u)
+        for name, key in (("reading", "reading_uncertainty"),
+                          ("bath_temperature", "temperature_uncertainty")):
+            ucol = cols.get(f"u({name})")
+            if ucol is not None and pd.notna(first[ucol]):
+                meta[key] = Entry(float(first[ucol]), _split(ucol)[1])
+        df = part[reading_cols].copy()
+        if "include" in df.columns:
+            df["include"] = ~df["include"].astype(str).str.strip().str.lower().isin(list(_FALSE))
+        if "pressure" in cols and part[cols["pressure"]].isna().all():
+            df = df.drop(columns=[cols["pressure"]])
+        out[str(run_id)] = Run.from_frame(df.reset_index(drop=True), **meta)
+    return out
 
 
 def split_valid(table: pd.DataFrame) -> tuple[pd.DataFrame, tuple[tuple[str, str], ...]]:

@@ -92,3 +92,46 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
         for s in axis.spines.values():
             s.set_linewidth(st["lw"] * 0.8)
     return fig
+
+
+def overview_figure(summary, width_mm: float = 175.0) -> Figure:
+    """ΔH_vap ± u of every run, grouped by liquid, against each liquid's reference.
+
+    Parameters
+    ----------
+    summary : DataFrame
+        From :func:`vpkit.batch.analyze_table`.
+    """
+    st = _style(width_mm)
+    liquids = list(dict.fromkeys(summary["liquid"]))
+    n = len(summary)
+    height_mm = min(60 + 4.5 * n, 240) if width_mm < 120 else min(50 + 3.2 * n, 240)
+    fig = Figure(figsize=(width_mm / MM_PER_INCH, height_mm / MM_PER_INCH), layout="constrained")
+    ax = fig.add_subplot()
+    y = 0.0
+    ticks, labels = [], []
+    for k, liquid in enumerate(liquids):
+        part = summary[summary["liquid"] == liquid]
+        ys = y + np.arange(len(part))
+        flagged = part["flags"].astype(str) != ""
+        color = f"C{k % 10}"
+        ax.errorbar(part["ΔH_vap [kJ/mol]"][~flagged], ys[~flagged.to_numpy()],
+                    xerr=part["u(ΔH_vap) [kJ/mol]"][~flagged], fmt="o", ms=st["ms"],
+                    color=color, lw=st["lw"], capsize=0)
+        ax.errorbar(part["ΔH_vap [kJ/mol]"][flagged], ys[flagged.to_numpy()],
+                    xerr=part["u(ΔH_vap) [kJ/mol]"][flagged], fmt="s", ms=st["ms"],
+                    mfc="none", color=color, lw=st["lw"], capsize=0)
+        ref = part["reference ΔH_vap [kJ/mol]"].median()
+        if np.isfinite(ref):
+            ax.plot([ref, ref], [ys[0] - 0.4, ys[-1] + 0.4], color=color, lw=st["lw"], ls="--")
+        ticks += list(ys)
+        labels += [f"{rid}" for rid in part["run_id"]]
+        ax.text(1.0, ys.mean(), f" {liquid}", transform=ax.get_yaxis_transform(),
+                fontsize=st["font"], va="center", ha="left", color=color)
+        y = ys[-1] + 2.0
+    ax.set_yticks(ticks, labels, fontsize=max(st["small"] - 1, 4))
+    ax.invert_yaxis()
+    ax.set_xlabel("ΔH_vap / (kJ/mol)   (open squares: flagged; dashed: reference)",
+                  fontsize=st["font"])
+    ax.tick_params(labelsize=st["small"])
+    return fig

@@ -1,0 +1,48 @@
+"""Overview panel: summary of a folder, sorting, drill-down, exclusions persist per run."""
+
+import numpy as np
+import pytest
+
+import vpkit
+
+pytest.importorskip("ipywidgets")
+from tests.conftest import make_run  # noqa: E402
+from vpkit.batch import analyze_runs  # noqa: E402
+from vpkit.simulate import NOISE  # noqa: E402
+
+
+@pytest.fixture
+def folder(tmp_path):
+    rng = np.random.default_rng(41)
+    for k, liquid in enumerate(["ethanol", "toluene", "ethanol"]):
+        vpkit.write_run(make_run(liquid, noise=NOISE, rng=rng), tmp_path / f"bench{k}.csv")
+    (tmp_path / "bench9.csv").write_text("not a run file")
+    return tmp_path
+
+
+def test_summary_sorting_and_failed_runs(folder):
+    ov = vpkit.overview(folder)
+    assert list(ov.summary["run_id"]) == ["bench0", "bench1", "bench2"]
+    assert "bench9.csv" in ov.w_messages.value
+    ov.w_sort.value = "ΔH_vap [kJ/mol]"
+    ov.w_desc.value = False
+    dh = list(ov.sorted_summary()["ΔH_vap [kJ/mol]"])
+    assert dh == sorted(dh)
+    assert ov.w_figure.value[:4] == b"\x89PNG"
+
+
+def test_drill_down_exclusion_flows_back_and_persists(folder):
+    ov = vpkit.overview(folder)
+    ov.w_runs.value = "bench1"
+    panel = ov.explorers["bench1"]
+    assert panel.readouts()["enthalpy"] == vpkit.analyze(
+        folder / "bench1.csv", reference="auto", warn=False).enthalpy.nominal_value
+    panel.toggle(3, "stirrer stopped")
+    ov.refresh()
+    row = ov.summary.set_index("run_id").loc["bench1"]
+    assert row["points used"] == 7
+    expected = analyze_runs({"bench1": vpkit.read_run(folder / "bench1.csv").with_include(
+        panel.include, panel.reasons)}).iloc[0]
+    assert row["ΔH_vap [kJ/mol]"] == pytest.approx(expected["ΔH_vap [kJ/mol]"], rel=1e-12)
+    again = vpkit.overview(folder)  # a new session: the exclusion is still there
+    assert again.summary.set_index("run_id").loc["bench1", "points used"] == 7

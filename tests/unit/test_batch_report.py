@@ -1,0 +1,71 @@
+"""Report for a set of runs: self-contained HTML, Markdown, escaping, command line."""
+
+from html.parser import HTMLParser
+
+import numpy as np
+
+import vpkit
+from tests.conftest import make_run
+from vpkit.__main__ import main
+from vpkit.report import write_batch_report
+from vpkit.simulate import NOISE
+
+
+class _Collect(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.tags, self.imgs, self.scripts, self.text = [], [], 0, []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append(tag)
+        if tag == "img":
+            self.imgs.append(dict(attrs)["src"])
+        if tag in ("script", "link", "iframe"):
+            self.scripts += 1
+
+    def handle_data(self, data):
+        self.text.append(data)
+
+
+def _folder(tmp_path):
+    rng = np.random.default_rng(31)
+    folder = tmp_path / "section"
+    folder.mkdir()
+    for k, liquid in enumerate(["ethanol", "ethanol", "toluene", "water"]):
+        run = make_run(liquid, noise=NOISE, rng=rng, boiling_point=350.0)
+        if k == 1:
+            run = run.with_include([True] * 7 + [False],
+                                   [""] * 7 + ["<script>alert('x')</script> | bubble lost"])
+        vpkit.write_run(run, folder / f"pair{k + 1}.csv")
+    (folder / "pair9.csv").write_text("[run]\nliquid,water,,\n")
+    return folder
+
+
+def test_html_is_self_contained_and_escapes_user_text(tmp_path):
+    res = write_batch_report(_folder(tmp_path), tmp_path / "out")
+    html = res["html"].read_text()
+    p = _Collect()
+    p.feed(html)
+    assert p.scripts == 0 and "http" not in " ".join(p.imgs)
+    assert len(p.imgs) == 1 + 4  # overview + one per run
+    assert all(src.startswith("data:image/png;base64,") for src in p.imgs)
+    assert "<script>alert" not in html and "&lt;script&gt;alert" in html
+    text = " ".join(p.text)
+    assert "Safety" in text and "Methods" in text and "pair9.csv" in text
+    assert "1 point(s) were excluded" in text
+
+
+def test_markdown_report_and_summary(tmp_path):
+    res = write_batch_report(_folder(tmp_path), tmp_path / "out")
+    md = res["markdown"].read_text()
+    assert "![overview](figures/overview.png)" in md
+    assert (tmp_path / "out" / "figures" / "pair1.png").exists()
+    assert "&lt;script&gt;" in md and "\\| bubble lost" in md
+    assert len(res["summary"]) == 4 and len(res["failed"]) == 1
+
+
+def test_report_command(tmp_path, capsys):
+    assert main(["report", str(_folder(tmp_path)), "--out", str(tmp_path / "o")]) == 0
+    out = capsys.readouterr().out
+    assert "4 run(s) analysed" in out and "could not be read" in out
+    assert (tmp_path / "o" / "report.html").exists()
