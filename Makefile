@@ -22,6 +22,8 @@ test: $(VENV)/.installed
 
 bench: $(VENV)/.installed
 	$(PY) benchmarks/bench_core.py
+	$(PY) benchmarks/bench_panel.py --browser
+	$(PY) benchmarks/bench_batch.py
 
 clean:
 	rm -rf $(VENV) out .pytest_cache

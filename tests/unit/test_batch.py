@@ -151,3 +151,10 @@ def test_dask_partitions_give_identical_results():
                              meta=meta).compute(scheduler="synchronous")
     got = got.set_index("run_id").loc[expected["run_id"]].reset_index()
     pd.testing.assert_frame_equal(got, expected, check_exact=False, rtol=1e-12)
+
+
+def test_blocks_give_the_same_summary():
+    table = runs_to_table(random_runs(25, seed=12))
+    whole = analyze_table(table)
+    blocks = analyze_table(table, chunk_runs=7)
+    pd.testing.assert_frame_equal(whole, blocks)
