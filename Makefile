@@ -14,7 +14,9 @@ $(VENV)/.installed: pyproject.toml
 
 demo: $(VENV)/.installed
 	$(PY) -m vpkit analyze data/demo/*.csv --out $(OUT)
-	@echo "Demo outputs (figures, tables, summaries) are in $(OUT)/"
+	$(PY) -m vpkit report data/demo --out $(OUT)/section-report
+	@echo "Demo outputs: per-run figures, tables and summaries in $(OUT)/;"
+	@echo "the many-run report in $(OUT)/section-report/report.html (and report.md)"
 
 test: $(VENV)/.installed
 	$(PY) -m ruff check vpkit tests benchmarks data

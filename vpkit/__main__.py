@@ -45,7 +45,7 @@ def main(argv: list[str] | None = None) -> int:
             a = analyze(path, model=args.model, weighting=args.weighting,
                         air_from=args.air_from,
                         vapor_at_air_reference=args.vapor_at_air_reference,
-                        use_head=not args.no_head)
+                        use_head=not args.no_head, warn=False)  # printed below
             paths = write_outputs(a, args.out, width_mm=args.width_mm)
         except VpkitError as exc:
             print(f"error: {exc}", file=sys.stderr)

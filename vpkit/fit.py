@@ -282,9 +282,12 @@ class FitResult:
     def _solve_T(self, target: float) -> float:
         m, th = self.model, self.params
         if m.name == "clausius_clapeyron":
-            if th[0] - target <= 0 or th[1] >= 0 and False:
-                raise FitError("the fitted line never reaches that pressure")
-            return float(th[1] / (target - th[0]))
+            with np.errstate(divide="ignore", invalid="ignore"):
+                T = float(th[1] / (target - th[0]))
+            if not (np.isfinite(T) and T > 0):
+                raise FitError("the fitted line never reaches that pressure at a positive "
+                               "temperature")
+            return T
         lo = 50.0 if m.name != "antoine" else max(50.0, -th[2] + 1e-6)
         hi = 2000.0
         g = lambda t: float(m.f(t, th)) - target  # noqa: E731
