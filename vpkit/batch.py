@@ -214,7 +214,16 @@ def table_to_runs(table: pd.DataFrame) -> dict[str, Run]:
 
 
 def split_valid(table: pd.DataFrame) -> tuple[pd.DataFrame, tuple[tuple[str, str], ...]]:
-    """Drop (and report) runs whose rows cannot be converted; keep the rest."""
+    """Drop (and report) runs whose rows cannot be converted; keep the rest.
+
+    The whole table is checked at once; only when that fails is each run checked
+    alone, to name the bad ones.
+    """
+    try:
+        prepare(table)
+        return table.reset_index(drop=True), ()
+    except VpkitError:
+        pass
     failed = []
     ok = np.ones(len(table), bool)
     ids = table["run_id"].astype(str).to_numpy()
@@ -258,7 +267,16 @@ class Layout:
     source: str
 
 
-def _column(table, name, kind, source):
+def _lines(table: pd.DataFrame) -> np.ndarray:
+    """File line of each row: the table's own integer index + 2 (header is line 1)
+    when it has one (as read_csv gives), else the position + 2."""
+    idx = table.index
+    if pd.api.types.is_integer_dtype(idx.dtype):
+        return idx.to_numpy() + 2
+    return np.arange(len(table)) + 2
+
+
+def _column(table, name, kind, source, lines=None):
     """Find ``name [unit]`` and convert it to SI; returns (values or None, column label)."""
     for col in table.columns:
         n, unit = _split(col)
@@ -271,7 +289,8 @@ def _column(table, name, kind, source):
             if bad.any():
                 i = int(np.flatnonzero(bad)[0])
                 raise BadValueError(f"{table[col].iloc[i]!r} is not a number", file=source,
-                                    row=i + 2, column=str(col), hint="enter a plain number")
+                                    row=int(lines[i]) if lines is not None else i + 2,
+                                    column=str(col), hint="enter a plain number")
             if kind is None:
                 return values, col
             if not unit:
@@ -285,6 +304,7 @@ def _column(table, name, kind, source):
 def prepare(table: pd.DataFrame) -> Layout:
     """Convert a long table (all rows of complete runs) into the padded SI layout."""
     source = table.attrs.get("source", "<table>")
+    lines = _lines(table)
     t = table.reset_index(drop=True)
     known = set(FIELDS) | set(_READING_NAMES) | {"run_id"}
     for col in t.columns:
@@ -304,7 +324,7 @@ def prepare(table: pd.DataFrame) -> Layout:
     Rn, N = len(run_ids), int(counts.max()) if len(counts) else 0
     pos = np.arange(len(t)) - np.repeat(first, counts)  # position within its run
     rix = np.repeat(np.arange(Rn), counts)
-    rowno = order + 2  # file line (header is line 1)
+    rowno = lines[order]  # file line of each sorted row
 
     def pad(values, fill=np.nan, dtype=float):
         out = np.full((Rn, N), fill, dtype=dtype)
@@ -326,7 +346,7 @@ def prepare(table: pd.DataFrame) -> Layout:
     point, scalar, u = {}, {}, {}
     for name, key, kind in (("bath_temperature", "T", "temperature"),
                             ("reading", "reading", "volume"), ("pressure", "P", "pressure")):
-        v, col = _column(t, name, kind, source)
+        v, col = _column(t, name, kind, source, lines)
         if v is None and name != "pressure":
             raise RunFileError(f"the table has no {name!r} column", file=source, row=1,
                                column=name, hint=f"add '{name} [UNIT]'")
@@ -334,14 +354,15 @@ def prepare(table: pd.DataFrame) -> Layout:
         miss = np.isnan(v).any() if name != "pressure" else False
         if miss:
             i = int(np.flatnonzero(np.isnan(v))[0])
-            raise BadValueError(f"missing {name}", file=source, row=i + 2, column=str(col),
+            raise BadValueError(f"missing {name}", file=source, row=int(lines[i]),
+                                column=str(col),
                                 hint="enter the value or delete the row")
     for name, kind in (("barometric_pressure", "pressure"), ("room_temperature", "temperature"),
                        ("room_reading", "volume"), ("mass_before_air", "mass"),
                        ("mass_after_air", "mass"), ("liquid_density", "density"),
                        ("injected_air_volume", "volume"), ("scale_offset", "volume"),
                        ("bubble_depth", "length"), ("boiling_point", "temperature")):
-        v, col = _column(t, name, kind, source)
+        v, col = _column(t, name, kind, source, lines)
         scalar[name] = (per_run(v, str(col)) if v is not None else np.full(Rn, np.nan))
     for name in ("barometric_pressure", "room_temperature"):
         if np.isnan(scalar[name]).any():
@@ -361,7 +382,7 @@ def prepare(table: pd.DataFrame) -> Layout:
              "injected_air_volume": "volume", "scale_offset": "volume", "bubble_depth": "length",
              "room_reading": "volume", "boiling_point": "temperature"}
     for name, key in _U_NAMES.items():
-        v, col = _column(t, f"u({name})", kinds[name], source)
+        v, col = _column(t, f"u({name})", kinds[name], source, lines)
         if name in ("bath_temperature", "reading", "pressure"):
             # one uncertainty per run in the run-file model
             base = per_run(v, str(col)) if v is not None else np.full(Rn, np.nan)
@@ -371,10 +392,10 @@ def prepare(table: pd.DataFrame) -> Layout:
         if default is None:  # the room reading defaults to the reading uncertainty
             continue
         u[key] = np.where(np.isnan(base), default, base)
-    v, col = _column(t, "u(room_reading)", "volume", source)
+    v, col = _column(t, "u(room_reading)", "volume", source, lines)
     base = per_run(v, str(col)) if v is not None else np.full(Rn, np.nan)
     u["room_reading"] = np.where(np.isnan(base), u["reading"], base)
-    rel, col = _column(t, "u_rel(liquid_density)", None, source)
+    rel, col = _column(t, "u_rel(liquid_density)", None, source, lines)
     rel = per_run(rel, str(col)) if rel is not None else np.full(Rn, np.nan)
     u["density_relative"] = np.where(np.isnan(rel), D["liquid_density_relative"], rel)
     liquid = per_run(t["liquid"].astype(str).str.strip().to_numpy(), "liquid")
@@ -388,7 +409,7 @@ def prepare(table: pd.DataFrame) -> Layout:
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
         raise BadValueError(f"include flag {inc_text[i]!r} is not yes or no", file=source,
-                            row=i + 2, column="include", hint="write yes or no")
+                            row=int(lines[i]), column="include", hint="write yes or no")
     include = pad(np.isin(inc_text, list(_TRUE)), False, bool)
     reasons = pad(t["reason"].fillna("").astype(str).to_numpy() if "reason" in t.columns
                   else np.full(len(t), ""), "", object)

@@ -131,6 +131,8 @@ def test_long_table_file_and_a_bad_run(tmp_path):
     load = read_runs(path)
     assert load.run_ids == ["run000", "run002"]
     assert load.failed[0][0] == "run001" and "warm" in load.failed[0][1]
+    first_bad_line = int(np.flatnonzero(table["run_id"] == "run001")[0]) + 2
+    assert f"row {first_bad_line}," in load.failed[0][1]
 
 
 def test_metadata_must_be_constant_within_a_run():
