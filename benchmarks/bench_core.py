@@ -35,12 +35,12 @@ def main():
     run = simulate_run(curve.p, np.linspace(298.15, 333.15, 8), liquid="ethanol",
                        density=float(liquid_density("ethanol", 294.15)), noise=NOISE,
                        rng=np.random.default_rng(7))
-    a = vpkit.analyze(run)
+    a = vpkit.analyze(run, warn=False)
     rows = []
     rows.append(("analyze, 8 points, linear propagation (default choices)",
-                 median_ms(lambda: vpkit.analyze(run), 200), 5.0))
+                 median_ms(lambda: vpkit.analyze(run, warn=False), 200), 5.0))
     rows.append(("analyze, self-consistent air amount (air_from=cold, fit)",
-                 median_ms(lambda: vpkit.analyze(run, air_from="cold",
+                 median_ms(lambda: vpkit.analyze(run, air_from="cold", warn=False,
                                                  vapor_at_air_reference="fit"), 50), None))
     T, y = a.fit.T, a.fit.y
     cov = a.cov_ln_p
