@@ -383,11 +383,8 @@ def prepare(table: pd.DataFrame) -> Layout:
              "room_reading": "volume", "boiling_point": "temperature"}
     for name, key in _U_NAMES.items():
         v, col = _column(t, f"u({name})", kinds[name], source, lines)
-        if name in ("bath_temperature", "reading", "pressure"):
-            # one uncertainty per run in the run-file model
-            base = per_run(v, str(col)) if v is not None else np.full(Rn, np.nan)
-        else:
-            base = per_run(v, str(col)) if v is not None else np.full(Rn, np.nan)
+        # one uncertainty per run, as in the run-file model
+        base = per_run(v, str(col)) if v is not None else np.full(Rn, np.nan)
         default = defaults[key]
         if default is None:  # the room reading defaults to the reading uncertainty
             continue
@@ -521,7 +518,7 @@ def _inputs(L: Layout, rho: np.ndarray, air_from: str, use_head: bool):
     sigma = np.where(usedm, np.nan_to_num(sigma), 0.0)
     step = np.maximum(np.abs(np.nan_to_num(nom)) * 1e-7, sigma * 1e-4)
     step = np.where(step > 0, step, 1e-12)
-    return nom, sigma, step, usedm
+    return nom, sigma, step
 
 
 def _unpack(U: np.ndarray, N: int) -> dict:
@@ -600,7 +597,7 @@ def analyze_table(table: pd.DataFrame, *, weighting: str = "gls", air_from: str 
         i = int(np.flatnonzero(np.isnan(L.scalar["injected_air_volume"]))[0])
         raise BadValueError(f"run {L.run_ids[i]!r} has no injected_air_volume",
                             file=L.source, column="injected_air_volume")
-    nom, sigma, step, _ = _inputs(L, rho, air_from, use_head)
+    nom, sigma, step = _inputs(L, rho, air_from, use_head)
     m = nom.shape[1]
     # batch of 2m perturbed copies per run, plus the nominal
     U = np.repeat(nom[:, None, :], 2 * m + 1, axis=1)

@@ -43,7 +43,6 @@ from __future__ import annotations
 
 import functools
 import math
-import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -51,7 +50,7 @@ import uncertainties
 from scipy import optimize, stats
 
 from .constants import P_STANDARD, R
-from .errors import FitError, VpkitWarning
+from .errors import FitError
 
 LN10 = math.log(10.0)
 WEIGHTINGS = ("ordinary", "weighted", "gls")
@@ -649,9 +648,3 @@ def fit_batch(model: str, T: np.ndarray, y: np.ndarray, Winv: np.ndarray, start,
     unconverged = np.any(np.abs(step) > 1e-6 * np.maximum(np.abs(th), 1.0), axis=1)
     th[unconverged] = np.nan
     return th
-
-
-def warn_all(result: FitResult) -> None:
-    """Emit each of the result's warnings as a :class:`VpkitWarning`."""
-    for w in result.warnings:
-        warnings.warn(w, VpkitWarning, stacklevel=2)

@@ -113,10 +113,6 @@ def complete_mapping(x: dict[str, np.ndarray], si: RunSI) -> dict[str, np.ndarra
     return x
 
 
-#: A function p_ref(T_ref, x) giving the vapor pressure at the air reference.
-PRefFunction = Callable[[np.ndarray], np.ndarray]
-
-
 def evaluate(iv: InputVector, si: RunSI, setup: ReductionSetup, U: np.ndarray, p_ref) -> dict:
     """Run the reduction on every row of U (B, m) with p_ref (B,) or a callable of T_ref."""
     x = complete_mapping(iv.to_mapping(U), si)

@@ -1,4 +1,6 @@
-"""Overview panel: summary of a folder, sorting, drill-down, exclusions persist per run."""
+"""Overview panel: summary of a folder, sorting, drill-down, exclusions persist per run.
+
+Check values come from vpkit.analyze / analyze_runs (common practice, no source)."""
 
 import numpy as np
 import pytest

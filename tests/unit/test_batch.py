@@ -1,4 +1,7 @@
-"""Many runs at once: equality with the single-run path, flags, loading, Dask."""
+"""Many runs at once: equality with the single-run path, flags, loading, Dask.
+
+The check values come from vpkit.analyze, itself tested against IAPWS-95, chemicals
+and NIST StRD in tests/reference; flag thresholds are common practice, no source."""
 
 import numpy as np
 import pandas as pd

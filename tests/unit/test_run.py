@@ -1,4 +1,7 @@
-"""Run files: reading, writing, units, errors that name the place."""
+"""Run files: reading, writing, units, errors that name the place.
+
+Unit factors are checked in test_units.py (SI Brochure, NIST SP 811); here the
+expectations are the file format's own rules (common practice, no source)."""
 
 import numpy as np
 import pandas as pd

@@ -1,4 +1,7 @@
-"""Session files: round trip, atomic writes, refusal of damaged or foreign sessions."""
+"""Session files: round trip, atomic writes, refusal of damaged or foreign sessions.
+
+Expectations are behaviour we promise (common practice, no source); values are
+built in each test, never taken from the code's own output."""
 
 import json
 import os

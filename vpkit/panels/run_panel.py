@@ -172,8 +172,7 @@ class RunPanel:
 
     def analysis_options(self) -> dict:
         """The keyword arguments this panel passes to :func:`vpkit.analyze`."""
-        opts = {k: self.choices[k] for k in ANALYSIS_KEYS}
-        return opts
+        return {k: self.choices[k] for k in ANALYSIS_KEYS}
 
     def current_run(self) -> Run:
         return self.run.with_include(self.include, self.reasons)
