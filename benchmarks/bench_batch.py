@@ -1,15 +1,22 @@
 """Many-run speed, measured side by side in one run (a script, not a timed test).
 
-Prints: batch analysis of 10,000 simulated runs of 6 points end to end (long
-table -> summary table; target < 1 s), the single-run path in a loop over a
-sample of the same runs scaled to 10,000 (target: batch >= 30x faster), peak
-memory of the batch call, and how time grows from 1,000 to 100,000 runs.
+For 10,000 invented runs of 6-8 points, end to end (a long table already in
+memory -> the summary with flags), prints the median time of the many-run path
+(`vpkit.batch.analyze_table`), the time the single-run path (`vpkit.analyze` in a
+loop) would take (measured on a sample and scaled), and their ratio; the same
+for the constant-ΔCp model; then peak memory and time for 100,000 runs (done in
+blocks) and how time grows from 1,000 to 100,000 runs.
 
-Run: python benchmarks/bench_batch.py [--skip-100k]
+Targets (issue "one analysis path"): Clausius-Clapeyron under 0.1 s and at least
+200 x the loop; constant ΔCp under 0.5 s; 100,000 runs under 500 MiB.
+
+Run: python benchmarks/bench_batch.py [--skip-100k] [--profile]
 """
 
 from __future__ import annotations
 
+import cProfile
+import pstats
 import sys
 import time
 import tracemalloc
@@ -19,28 +26,30 @@ import pandas as pd
 
 import vpkit
 from vpkit.batch import analyze_table
-from vpkit.constants import T_ZERO_C, R
+from vpkit.constants import T_ZERO_C
 from vpkit.reference import antoine_curve, liquid_density
-from vpkit.simulate import NOISE
+from vpkit.simulate import NOISE, forward_readings
+from vpkit.table import table_to_runs
 
 LIQUIDS = ["ethanol", "water", "toluene", "2-propanol"]
 
 
 def simulated_table(n_runs: int, seed: int = 0) -> pd.DataFrame:
-    """A long table of n_runs noisy 6-point runs (invented), built with array code.
+    """A long table of n_runs noisy runs of 6-8 points (invented), from the forward model.
 
-    The same forward-model formulas as vpkit.simulate.simulate_run, vectorised
-    over runs, so that building 100,000 runs takes seconds.
+    Uses vpkit.simulate.forward_readings on arrays (the same forward model as
+    simulate_run), so that building 100,000 runs takes seconds.
     """
     rng = np.random.default_rng(seed)
     liquid = np.array(LIQUIDS)[rng.integers(0, len(LIQUIDS), n_runs)]
-    T = np.sort(rng.uniform(298.0, 333.0, (n_runs, 6)), axis=1)
+    n_pts = rng.integers(6, 9, n_runs)
+    N = 8
+    T = np.sort(rng.uniform(298.0, 333.0, (n_runs, N)), axis=1)
     P_bar = rng.normal(100e3, 1.5e3, n_runs)
     T_room = rng.normal(294.0, 1.0, n_runs)
     V_room = rng.uniform(1.5e-6, 3.0e-6, n_runs)
-    offset = 0.12e-6
     rho = np.empty(n_runs)
-    p_T = np.empty((n_runs, 6))
+    p_T = np.empty((n_runs, N))
     p_room = np.empty(n_runs)
     for name in LIQUIDS:  # a loop over liquids, not runs
         sel = liquid == name
@@ -48,79 +57,84 @@ def simulated_table(n_runs: int, seed: int = 0) -> pd.DataFrame:
         rho[sel] = liquid_density(name, T_room[sel])
         p_T[sel] = c.p(T[sel])
         p_room[sel] = c.p(T_room[sel])
-    n_air = (P_bar - p_room) * V_room / (R * T_room)
-    rho_gas = P_bar * 28.96546e-3 / (R * T_room)
-    m_before = 0.030
-    m_after = m_before - V_room * (rho - rho_gas)
-    V = n_air[:, None] * R * T / (P_bar[:, None] - p_T)
-    reading = V - offset + rng.normal(0, NOISE["reading"], V.shape)
+    true = forward_readings(p_T, p_room, T, P_bar=P_bar, T_room=T_room, V_room=V_room,
+                            offset=0.12e-6, density=rho)
+    reading = true["reading"] + rng.normal(0, NOISE["reading"], T.shape)
     T_rec = T + rng.normal(0, NOISE["T"], T.shape)
-    rows = n_runs * 6
-    rep = lambda a: np.repeat(a, 6)  # noqa: E731
+    keep = np.arange(N)[None, :] < n_pts[:, None]
+    r = np.nonzero(keep)[0]
+    rep = lambda a: np.asarray(a)[r]  # noqa: E731
     return pd.DataFrame({
         "run_id": rep(np.array([f"run{i:06d}" for i in range(n_runs)])),
         "liquid": rep(liquid),
         "barometric_pressure [kPa]": rep((P_bar + rng.normal(0, NOISE["P_bar"], n_runs)) / 1e3),
         "room_temperature [degC]": rep(T_room - T_ZERO_C),
-        "room_reading [mL]": rep((V_room - offset) * 1e6),
-        "mass_before_air [g]": rep(np.full(n_runs, m_before * 1e3)),
-        "mass_after_air [g]": rep(m_after * 1e3),
-        "bath_temperature [degC]": T_rec.ravel() - T_ZERO_C,
-        "reading [mL]": reading.ravel() * 1e6,
-        "include": np.full(rows, "yes"),
+        "room_reading [mL]": rep(true["room_reading"] * 1e6),
+        "mass_before_air [g]": rep(np.full(n_runs, 30.0)),
+        "mass_after_air [g]": rep(true["mass_after"] * 1e3),
+        "bath_temperature [degC]": T_rec[keep] - T_ZERO_C,
+        "reading [mL]": reading[keep] * 1e6,
+        "include": np.full(len(r), "yes"),
     })
 
 
-def main(skip_100k: bool) -> None:
-    table = simulated_table(10_000)
-    analyze_table(simulated_table(50, seed=9))  # warm-up
+def median_time(fn, repeat=5):
     times = []
-    for _ in range(5):
+    for _ in range(repeat):
         t0 = time.perf_counter()
-        summary = analyze_table(table)
+        out = fn()
         times.append(time.perf_counter() - t0)
-    t_batch = float(np.median(times))
-    tracemalloc.start()
-    analyze_table(table)
-    _, peak = tracemalloc.get_traced_memory()
-    tracemalloc.stop()
-    # single-run path on a sample of the same runs, scaled to 10,000
-    sample_ids = summary["run_id"].iloc[:100]
-    t_loop = 0.0
-    for rid in sample_ids:
-        part = table[table["run_id"] == rid]
-        df = part[["bath_temperature [degC]", "reading [mL]", "include"]]
-        first = part.iloc[0]
-        run = vpkit.Run.from_frame(
-            df, liquid=first["liquid"],
-            barometric_pressure=(first["barometric_pressure [kPa]"], "kPa"),
-            room_temperature=(first["room_temperature [degC]"], "degC"),
-            room_reading=(first["room_reading [mL]"], "mL"),
-            mass_before_air=(first["mass_before_air [g]"], "g"),
-            mass_after_air=(first["mass_after_air [g]"], "g"))
-        t = time.perf_counter()
-        vpkit.analyze(run, reference="antoine", warn=False)
-        t_loop += time.perf_counter() - t
-    t_loop_10k = t_loop / len(sample_ids) * 10_000
-    print("batch analysis, runs of 6 points (Clausius-Clapeyron, GLS, linear propagation)")
-    print(f"  10,000 runs end to end (table -> summary): {t_batch:8.3f} s   target < 1 s "
-          f"(median of 5; min {min(times):.3f}, max {max(times):.3f})")
-    print(f"  single-run path in a loop, same runs:       {t_loop_10k:8.3f} s   "
-          f"(measured on {len(sample_ids)}, scaled)")
-    print(f"  ratio loop / batch:                         {t_loop_10k / t_batch:8.1f} x   "
-          "target >= 30 x")
-    print(f"  peak memory of the batch call (tracemalloc): {peak / 2**20:7.1f} MiB")
+    return float(np.median(times)), min(times), max(times), out
+
+
+def loop_time(table, n_sample, **options):
+    """The single-run path on the first n_sample runs of the table, per run [s]."""
+    ids = list(dict.fromkeys(table["run_id"]))[:n_sample]
+    runs = table_to_runs(table[table["run_id"].isin(ids)])
+    t0 = time.perf_counter()
+    for run in runs.values():
+        vpkit.analyze(run, warn=False, **options)
+    return (time.perf_counter() - t0) / len(runs)
+
+
+def main(skip_100k: bool, profile: bool) -> None:
+    table = simulated_table(10_000)
+    analyze_table(simulated_table(50, seed=9))  # warm-up (caches, imports)
+    print("many-run analysis, 10,000 invented runs of 6-8 points, GLS, linear propagation")
+    print("(end to end: long table in memory -> summary table with flags)")
+    for label, options, target, sample in (("Clausius-Clapeyron", {}, 0.1, 200),
+                                           ("constant ΔCp", {"model": "constant_dcp"}, 0.5, 100)):
+        t, lo, hi, summary = median_time(lambda o=options: analyze_table(table, **o))
+        per_run = loop_time(table, sample, **options)
+        loop = per_run * 10_000
+        print(f"  {label}:")
+        print(f"    many-run path:            {t:8.3f} s  (median of 5; min {lo:.3f}, max "
+              f"{hi:.3f})   target < {target} s")
+        print(f"    single-run loop, scaled:  {loop:8.2f} s  ({1e3 * per_run:.2f} ms per run, "
+              f"measured on {sample})")
+        print(f"    ratio loop / many-run:    {loop / t:8.1f} x" + (
+            "   target >= 200 x" if label == "Clausius-Clapeyron" else ""))
+        print(f"    runs analysed: {(summary['status'] == '').sum()} of {len(summary)}")
+    if profile:
+        cProfile.runctx("analyze_table(table)", globals(), {"table": table}, "/tmp/vpkit.prof")
+        pstats.Stats("/tmp/vpkit.prof").sort_stats("cumulative").print_stats(25)
     sizes = [1_000, 10_000] + ([] if skip_100k else [100_000])
     prev = None
+    print("  scaling (Clausius-Clapeyron):")
     for n in sizes:
         tab = simulated_table(n, seed=n)
-        t = time.perf_counter()
+        tracemalloc.start()
+        t0 = time.perf_counter()
         analyze_table(tab)
-        dt = time.perf_counter() - t
+        dt = time.perf_counter() - t0
+        _, peak = tracemalloc.get_traced_memory()
+        tracemalloc.stop()
         growth = "" if prev is None else f"   x{dt / prev[1]:.1f} time for x{n / prev[0]:.0f} runs"
-        print(f"  {n:>7,} runs: {dt:7.3f} s ({1e6 * dt / n:6.1f} µs/run){growth}")
+        print(f"  {n:>9,} runs: {dt:7.3f} s ({1e6 * dt / n:6.1f} µs/run), peak memory "
+              f"{peak / 2**20:6.1f} MiB (tracemalloc, under tracing){growth}")
         prev = (n, dt)
+    print("  memory target for 100,000 runs: < 500 MiB")
 
 
 if __name__ == "__main__":
-    main("--skip-100k" in sys.argv)
+    main("--skip-100k" in sys.argv, "--profile" in sys.argv)

@@ -23,7 +23,9 @@ from .errors import (
 )
 from .fit import FitResult, fit_points
 from .reference import compare_to_reference, liquids, reference_curve
-from .run import Entry, Run, format_run, parse_run, read_run, write_run
+from .run import Entry, Run
+from .runfile import format_run, parse_run, read_run, write_run
+from .stack import RunStack, stack_runs
 
 __version__ = "0.1.0"
 
@@ -50,7 +52,7 @@ def overview(source, **options):
 
 __all__ = [
     "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError",
-    "InputError", "Run",
+    "InputError", "Run", "RunStack", "stack_runs",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
     "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "read_run",
     "reference_curve", "write_run",

@@ -80,22 +80,86 @@ class ImpossibleDataError(InputError):
 
 
 class FitError(VpkitError, ValueError):
-    """A fit cannot be made (too few points for the model, singular problem)."""
+    """A fit cannot be made (too few points for the model, singular problem).
+
+    Carries the number of points and parameters, and the run it concerns when
+    the fit was one of many.
+    """
 
     def __init__(self, message: str, *, n_points: int | None = None,
-                 n_params: int | None = None) -> None:
+                 n_params: int | None = None, run_id: str | None = None) -> None:
         self.message = message
         self.n_points = n_points
         self.n_params = n_params
-        super().__init__(message)
+        self.run_id = run_id
+        super().__init__(message if run_id is None else f"run {run_id!r}: {message}")
 
     def __reduce__(self):
-        return (_rebuild_fit, (self.message, self.n_points, self.n_params))
+        return (_rebuild_fit, (self.message, self.n_points, self.n_params, self.run_id))
 
 
-def _rebuild_fit(message, n_points, n_params):
-    return FitError(message, n_points=n_points, n_params=n_params)
+def _rebuild_fit(message, n_points, n_params, run_id=None):
+    return FitError(message, n_points=n_points, n_params=n_params, run_id=run_id)
 
 
 class VpkitWarning(UserWarning):
-    """Something suspicious but computable (extrapolation, ill-conditioning...)."""
+    """Something suspicious but computable; base of the warning classes below.
+
+    Filter a kind of finding with the standard machinery, e.g.
+    ``warnings.simplefilter("ignore", vpkit.errors.ExtrapolationWarning)``.
+    """
+
+
+class ExtrapolationWarning(VpkitWarning):
+    """A result lies beyond the measured temperatures (boiling points)."""
+
+
+class IllConditionedWarning(VpkitWarning):
+    """The data cannot fix a model's parameters well (curvature, narrow range, few points)."""
+
+
+class ImpossiblePointWarning(VpkitWarning):
+    """A point is physically impossible as reduced (flagged, shown, never dropped silently)."""
+
+
+class SuspectPointWarning(VpkitWarning):
+    """A point looks wrong (off a robust line, duplicated, volume not growing, influential)."""
+
+
+class ReferenceRangeWarning(VpkitWarning):
+    """A reference equation is used outside its stated range, or not used at all."""
+
+
+class ReferenceDeviationWarning(VpkitWarning):
+    """The result disagrees with the reference equation or the measured boiling point."""
+
+
+class ScatterWarning(VpkitWarning):
+    """The scatter is larger than the stated uncertainties allow."""
+
+
+class ConvergenceWarning(VpkitWarning):
+    """An iteration (self-consistent air amount, nonlinear fit) did not converge."""
+
+
+class ChoiceWarning(VpkitWarning):
+    """A choice made for the user (or forced by the data) that biases the result."""
+
+
+class Notice(str):
+    """A finding's message (a plain ``str``) that also carries its warning class.
+
+    ``Analysis.warnings`` holds these: they read and compare as text, and
+    ``notice.category`` says which :class:`VpkitWarning` subclass it belongs to,
+    so code can filter findings without parsing the text.
+    """
+
+    category: type[VpkitWarning]
+
+    def __new__(cls, message: str, category: type[VpkitWarning] = VpkitWarning) -> Notice:
+        self = super().__new__(cls, message)
+        self.category = category
+        return self
+
+    def __reduce__(self):
+        return (Notice, (str(self), self.category))

@@ -1,42 +1,31 @@
-"""Fit models of ln p against T, and the frozen result of a fit.
+"""Fitting ln p against T on a stack of runs, and the frozen results of a fit.
 
-Three models, all in SI (T in K, p in Pa):
-
-* ``clausius_clapeyron``: ln p = a + b/T, constant ΔH_vap = -R b;
-* ``constant_dcp`` (Kirchhoff): ln p = a + b/T + c ln T, ΔH_vap(T) = R (c T - b),
-  ΔCp = R c;
-* ``antoine``: ln p = a - b/(T + C), i.e. log10 p = A - B/(T + C) with
-  A = a/ln 10, B = b/ln 10; ΔH_vap(T) = R b T^2/(T + C)^2.
+:func:`fit_stack` fits R data sets at once (masks select each set's points);
+:func:`fit_points` is the same call for one set. Models live in
+:mod:`vpkit.models`, the batched algebra in :mod:`vpkit.lsq`.
 
 Weighting: ``ordinary`` (unweighted, covariance from the scatter),
 ``weighted`` (diagonal of the residual covariance), ``gls`` (generalized least
 squares with the full residual covariance, which carries the correlations that
-the shared barometric pressure and air amount create). Errors in T are folded
-in by the effective-variance method, generalised to correlated errors:
-C_r = C_yy - C_yT D - D C_Ty + D C_TT D with D = diag(df/dT).
+the shared barometric pressure and air amount create) [1]. Errors in T are
+folded in by the effective-variance method, generalised to correlated errors
+[2]: C_r = C_yy - C_yT D - D C_Ty + D C_TT D with D = diag(df/dT), iterated
+with the parameters (at most four rounds, stopping at 1e-13 relative change).
 
-Covariance scaling rule (stated): for ``weighted`` and ``gls`` the parameter
-covariance is (J^T C_r^-1 J)^-1, and is multiplied by the reduced χ² only when
-χ² exceeds its 95th percentile for the degrees of freedom (the scatter is
-significantly larger than the stated uncertainties). ``ordinary`` always uses
+Covariance rule (stated): for ``weighted`` and ``gls`` the parameter covariance
+is (J^T C_r^-1 J)^-1, multiplied by the reduced χ² only when χ² exceeds its
+95th percentile for the degrees of freedom [3]; ``ordinary`` always uses
 s^2 (J^T J)^-1.
 
 References
 ----------
-.. [1] R. Clausius, Ann. Phys. 155, 500-524 (1850); B. P. E. Clapeyron,
-   J. Éc. Polytech. 14, 153-190 (1834).
-.. [2] G. R. Kirchhoff, Ann. Phys. 179, 177-206 (1858): ln p = a + b/T + c ln T.
-.. [3] C. Antoine, C. R. Acad. Sci. 107, 681-684 (1888).
-.. [4] J. Orear, "Least squares when both variables have uncertainties",
+.. [1] A. C. Aitken, Proc. R. Soc. Edinburgh 55, 42-48 (1935).
+.. [2] J. Orear, "Least squares when both variables have uncertainties",
    Am. J. Phys. 50, 912-916 (1982): effective variance.
-.. [5] A. C. Aitken, "On least squares and linear combination of
-   observations", Proc. R. Soc. Edinburgh 55, 42-48 (1935): generalized
-   least squares.
-.. [6] R. T. Birge, "The calculation of errors by the method of least
-   squares", Phys. Rev. 40, 207-227 (1932): scaling by the reduced χ².
-.. [7] F. Trouton, Philos. Mag. 18, 54-57 (1884): Trouton's rule.
-.. [8] D. A. Belsley, E. Kuh, R. E. Welsch, "Regression Diagnostics", Wiley
+.. [3] R. T. Birge, Phys. Rev. 40, 207-227 (1932): scaling by the reduced χ².
+.. [4] D. A. Belsley, E. Kuh, R. E. Welsch, "Regression Diagnostics", Wiley
    (1980): leverage and leave-one-out influence.
+.. [5] F. Trouton, Philos. Mag. 18, 54-57 (1884): Trouton's rule.
 """
 
 from __future__ import annotations
@@ -47,13 +36,15 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import uncertainties
-from scipy import optimize, stats
+from scipy import stats
 
-from .constants import P_STANDARD, R
+from . import lsq
+from .constants import P_STANDARD
 from .errors import FitError
+from .models import MODELS, Model, get_model  # noqa: F401  (MODELS re-exported)
 
-LN10 = math.log(10.0)
 WEIGHTINGS = ("ordinary", "weighted", "gls")
+SPACES = ("ln_p", "p")
 
 #: Trouton's rule band for liquids without hydrogen bonding [J/(mol K)];
 #: from memory (textbook value 85-88 J/(mol K), about 10.5 R).
@@ -62,142 +53,47 @@ TROUTON_BAND = (85.0, 88.0)
 TROUTON_HBOND_BAND = (100.0, 125.0)
 
 
-# ---------------------------------------------------------------------------
-# models
-# ---------------------------------------------------------------------------
+def _ro(a):
+    a = np.asarray(a)
+    a.setflags(write=False)
+    return a
+
+
+def quad(g: np.ndarray, cov: np.ndarray) -> np.ndarray:
+    """Standard uncertainty sqrt(g^T C g) of a linear function with gradient g, batched."""
+    return np.sqrt(np.einsum("...i,...ij,...j->...", g, cov, g))
 
 
 @dataclass(frozen=True)
-class Model:
-    """A fit model: ln p = f(T; θ), with what is needed to fit and report it."""
-
-    name: str
-    label: str
-    param_names: tuple[str, ...]
-    linear: bool
-
-    @property
-    def n_params(self) -> int:
-        return len(self.param_names)
-
-    # Each method works on floats, numpy arrays or uncertainties numbers.
-    def f(self, T, th):
-        if self.name == "clausius_clapeyron":
-            return th[0] + th[1] / T
-        if self.name == "constant_dcp":
-            return th[0] + th[1] / T + th[2] * _log(T)
-        return th[0] - th[1] / (T + th[2])
-
-    def df_dT(self, T, th):
-        if self.name == "clausius_clapeyron":
-            return -th[1] / T**2
-        if self.name == "constant_dcp":
-            return -th[1] / T**2 + th[2] / T
-        return th[1] / (T + th[2]) ** 2
-
-    def jac(self, T, th) -> np.ndarray:
-        """d f / d θ, shape (..., n, p)."""
-        T = np.asarray(T, float)
-        one = np.ones_like(T)
-        if self.name == "clausius_clapeyron":
-            return np.stack([one, 1.0 / T], axis=-1)
-        if self.name == "constant_dcp":
-            return np.stack([one, 1.0 / T, np.log(T)], axis=-1)
-        th = [np.asarray(t, float)[..., None] for t in th]
-        d = T + th[2]
-        return np.stack([one, -1.0 / d, th[1] / d**2], axis=-1)
-
-    def enthalpy(self, T, th):
-        """ΔH_vap(T) = R T^2 df/dT [J/mol]."""
-        return R * T**2 * self.df_dT(T, th)
-
-    def start(self, T, y) -> np.ndarray:
-        """Starting values (exact for the linear models)."""
-        if self.linear:
-            X = self.jac(T, None)
-            return np.linalg.lstsq(X, y, rcond=None)[0]
-        return _antoine_profile_start(T, y)
-
-
-def _log(x):
-    try:
-        return np.log(x)
-    except TypeError:
-        return uncertainties.umath.log(x)
-
-
-MODELS: dict[str, Model] = {
-    "clausius_clapeyron": Model("clausius_clapeyron", "Clausius–Clapeyron (constant ΔH)",
-                                ("a", "b [K]"), True),
-    "constant_dcp": Model("constant_dcp", "constant ΔCp (Kirchhoff)",
-                          ("a", "b [K]", "c"), True),
-    "antoine": Model("antoine", "Antoine", ("a", "b [K]", "C [K]"), False),
-}
-
-
-def get_model(name: str) -> Model:
-    try:
-        return MODELS[name]
-    except KeyError:
-        raise FitError(f"unknown fit model {name!r}; choose one of {', '.join(MODELS)}") from None
-
-
-def _antoine_profile_start(T, y) -> np.ndarray:
-    """Antoine start: for each C on a grid, (a, b) by linear least squares."""
-    T = np.asarray(T, float)
-    lo = -T.min() + 1.0
-    grid = np.concatenate([np.linspace(lo, lo + 50, 60), np.linspace(lo + 50, 2000, 200)])
-    best, best_th = np.inf, None
-    for C in grid:
-        X = np.stack([np.ones_like(T), -1.0 / (T + C)], axis=-1)
-        th, *_ = np.linalg.lstsq(X, y, rcond=None)
-        rss = float(np.sum((X @ th - y) ** 2))
-        if rss < best:
-            best, best_th = rss, np.array([th[0], th[1], C])
-    return best_th
-
-
-# ---------------------------------------------------------------------------
-# the fit result
-# ---------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class FitResult:
-    """The outcome of one fit (frozen).
+class StackFit:
+    """The fits of R data sets (all arrays read-only; NaN where a fit failed).
 
     Attributes
     ----------
     model : Model
-    weighting : str
-    params : ndarray
-        θ, in SI (see the module docstring for each model).
-    cov : ndarray
+    weighting, space : str
+    params : ndarray (R, p)
+    cov : ndarray (R, p, p)
         Parameter covariance after the scaling rule.
-    T, y : ndarray
+    T, y, include : ndarray (R, N)
         All points (K, ln(p/Pa)); ``include`` marks those fitted.
-    residuals : ndarray
-        y - f(T) for every point (excluded ones too).
-    normalized_residuals : ndarray
-        Residuals divided by their standard uncertainty (NaN for ``ordinary``
-        where none is stated: then by s).
-    leverage : ndarray
-        Diagonal of the hat matrix in the whitened problem (NaN if excluded).
-    loo_enthalpy : ndarray
-        ΔH_vap at T_m with that point alone left out [J/mol] (NaN if excluded
-        or if too few points would remain).
-    chi2, dof, chi2_reduced : float
-    scaled : bool
-        Whether the covariance was multiplied by the reduced χ².
-    T_m : float
-        1/mean(1/T) of the fitted points [K].
-    warnings : tuple of str
-    space : str
-        "ln_p" or "p": where the residuals were taken.
+    residuals, normalized_residuals, leverage, loo_enthalpy : ndarray (R, N)
+        Residual y - f(T) of every point; divided by its standard uncertainty
+        (by s for ``ordinary``); hat-matrix diagonal; ΔH_vap at T_m with that
+        point alone left out [J/mol] (NaN where not defined).
+    chi2, dof, chi2_reduced, scaled, T_m, n : ndarray (R,)
+    chol : ndarray (R, N, N)
+        Lower Cholesky factor of the (masked) residual covariance used.
+    residual_cov : ndarray (R, N, N) or None
+    status : tuple of str
+        Per data set, "" or why it could not be fitted.
+    ill_conditioned : ndarray of bool (R,)
+        Three-parameter model whose curvature the data do not fix.
     """
 
     model: Model
     weighting: str
+    space: str
     params: np.ndarray
     cov: np.ndarray
     T: np.ndarray
@@ -207,16 +103,519 @@ class FitResult:
     normalized_residuals: np.ndarray
     leverage: np.ndarray
     loo_enthalpy: np.ndarray
-    chi2: float
-    dof: int
-    chi2_reduced: float
-    scaled: bool
-    T_m: float
-    warnings: tuple[str, ...]
-    space: str = "ln_p"
-    residual_cov: np.ndarray | None = field(default=None, repr=False)
+    chi2: np.ndarray
+    dof: np.ndarray
+    chi2_reduced: np.ndarray
+    scaled: np.ndarray
+    T_m: np.ndarray
+    n: np.ndarray
+    chol: np.ndarray = field(repr=False)
+    residual_cov: np.ndarray | None = field(repr=False)
+    status: tuple[str, ...] = ()
+    ill_conditioned: np.ndarray = field(default=None, repr=False)
 
-    # -- values with uncertainty -------------------------------------------
+    @functools.cached_property
+    def ok(self) -> np.ndarray:
+        out = np.array([s == "" for s in self.status], bool)
+        out.setflags(write=False)
+        return out
+
+    # -- derived quantities with their gradients in θ ------------------------------
+    def enthalpy(self, T=None):
+        """ΔH_vap at T (default T_m) per data set: (value, u, gradient) [J/mol]."""
+        T = self.T_m if T is None else np.broadcast_to(np.asarray(T, float), self.T_m.shape)
+        g = self.model.enthalpy_grad(T, self.params)
+        return self.model.enthalpy(T, self.params), quad(g, self.cov), g
+
+    def boiling_point(self, P=P_STANDARD):
+        """Where each fitted curve reaches P [Pa]: (T_b, u, dT_b/dθ, dT_b/d ln P)."""
+        ln_P = np.log(np.broadcast_to(np.asarray(P, float), self.T_m.shape))
+        Tb = self.model.solve_T(ln_P, self.params, self.T_m)
+        with np.errstate(all="ignore"):
+            dfdT = self.model.df_dT(Tb, self.params)
+            g = -self.model.jac(Tb, self.params) / dfdT[..., None]
+        return Tb, quad(g, self.cov), g, 1.0 / dfdT
+
+    def entropy_at_boiling(self, P=P_STANDARD):
+        """ΔS_vap = ΔH_vap(T_b)/T_b at the boiling point for P: (value, u, gradient)."""
+        Tb, _, gT, _ = self.boiling_point(P)
+        m, th = self.model, self.params
+        with np.errstate(all="ignore"):
+            H = m.enthalpy(Tb, th)
+            gH = m.enthalpy_grad(Tb, th) + m.enthalpy_dT(Tb, th)[..., None] * gT
+            g = gH / Tb[..., None] - (H / Tb**2)[..., None] * gT
+            return H / Tb, quad(g, self.cov), g
+
+    def curvature_text(self, r: int) -> str:
+        m = self.model
+        if m.curvature_index is None:
+            return ""
+        value, sd = m.curvature(self.params[r], self.cov[r])
+        return m.describe_curvature(float(value), float(sd))
+
+
+def psum_rows(X, th):
+    """X θ for stacks X (B, N, p), θ (B, p), summed over p in order."""
+    return lsq.psum(X * th[:, None, :], axis=-1)
+
+
+def residual_covariance(cov_y, cov_yT, cov_T, dfdT):
+    """Covariance of y - f(T) from the covariances of y and T (effective variance [2])."""
+    out = np.array(cov_y, float)
+    if cov_T is not None:
+        d = dfdT
+        out = (out - cov_yT * d[..., None, :] - d[..., :, None] * np.swapaxes(cov_yT, -1, -2)
+               + d[..., :, None] * cov_T * d[..., None, :])
+    return 0.5 * (out + np.swapaxes(out, -1, -2))
+
+
+@functools.lru_cache(maxsize=256)
+def _chi2_limit(dof: int, level: float = 0.95) -> float:
+    """Percentile ``level`` of χ² with ``dof`` degrees of freedom."""
+    return float(stats.chi2.ppf(level, dof))
+
+
+def chi2_limits(dof: np.ndarray, level: float = 0.95) -> np.ndarray:
+    return np.array([_chi2_limit(int(d), level) if d > 0 else np.inf for d in np.ravel(dof)]
+                    ).reshape(np.shape(dof))
+
+
+def _design(m: Model, T, y, mask, th, space):
+    """Model values, residuals and Jacobian of every point (masked rows zero)."""
+    f = m.f(T, th)
+    J = m.jac(T, th)
+    if space == "ln_p":
+        r = y - f
+    else:
+        e = np.exp(f)
+        r = np.exp(y) - e
+        J = J * e[..., None]
+    return np.where(mask, r, 0.0), np.where(mask[..., None], J, 0.0), f
+
+
+def _whitened(m, T, y, mask, L, th, space):
+    r, J, _ = _design(m, T, y, mask, th, space)
+    Z = lsq.forward_solve(L, np.concatenate([J, r[..., None]], axis=-1))
+    return Z[..., -1], Z[..., :-1]
+
+
+def _solve_linear(m, T, y, mask, L, keep: dict | None = None, rows=None):
+    """Linear least squares in the whitened frame; ``keep`` stores its factorisation."""
+    X = np.where(mask[..., None], m.basis(T), 0.0)
+    Z = lsq.forward_solve(L, np.concatenate([X, np.where(mask, y, 0.0)[..., None]], -1))
+    fac = lsq.lstsq(Z[..., :-1], Z[..., -1])
+    if keep is not None:
+        for key, value in (("Xw", Z[..., :-1]), ("yw", Z[..., -1]), ("Q", fac["Q"]),
+                           ("R", fac["R"]), ("rank_ok", fac["rank_ok"])):
+            keep[key][rows] = value
+    return fac["theta"]
+
+
+def _levenberg_marquardt(m, T, y, mask, L, th0, space, max_iter=400):
+    """Batched Levenberg-Marquardt (lsq ref. [4]); returns θ and a converged flag."""
+    th = np.array(th0, float)
+    B, p = th.shape
+    rw, Jw = _whitened(m, T, y, mask, L, th, space)
+    cost = lsq.psum(rw * rw)
+    D = np.maximum(np.sqrt(lsq.psum(Jw * Jw, axis=-2)), 1e-300)
+    lam = np.full(B, 1e-3)
+    done = ~np.isfinite(cost)
+    conv = np.zeros(B, bool)
+    for _ in range(max_iter):
+        a = np.flatnonzero(~done)
+        if a.size == 0:
+            break
+        with np.errstate(all="ignore"):
+            step, pred = lsq.damped_step(Jw[a], rw[a], lam[a], D[a])
+            new = th[a] + step
+            rn, Jn = _whitened(m, T[a], y[a], mask[a], L[a], new, space)
+            cn = lsq.psum(rn * rn)
+            rho = (cost[a] - cn) / pred
+        acc = np.isfinite(cn) & np.all(np.isfinite(new), axis=1) & (rho > 1e-4)
+        old = cost[a]
+        i = a[acc]
+        th[i], rw[i], Jw[i], cost[i] = new[acc], rn[acc], Jn[acc], cn[acc]
+        D[i] = np.maximum(D[i], np.sqrt(lsq.psum(Jn[acc] * Jn[acc], axis=-2)))
+        grow = np.where(rho > 0.75, 1 / 3, np.where(rho < 0.25, 2.0, 1.0))
+        lam[a] = np.where(acc, lam[a] * grow, lam[a] * 4.0)
+        with np.errstate(all="ignore"):
+            xs = np.linalg.norm(D[a] * step, axis=1) <= 1e-14 * (
+                np.linalg.norm(D[a] * th[a], axis=1) + 1e-14)
+            fs = acc & (old - cn <= 1e-15 * old) & (pred <= 1e-15 * old)
+            g = np.abs(lsq.psum(Jw[a] * rw[a][..., None], axis=-2)) / (
+                D[a] * np.sqrt(np.maximum(cost[a], 1e-300))[:, None])
+            gs = np.nanmax(g, axis=1) <= 1e-13
+        stop = xs | fs | gs | (cost[a] <= 1e-28) | (lam[a] > 1e30)
+        conv[a] |= (xs | fs | gs | (cost[a] <= 1e-28)) & (lam[a] <= 1e30)
+        done[a] |= stop
+    return th, conv & np.all(np.isfinite(th), axis=1)
+
+
+def _solve_nonlinear(m, T, y, mask, L, th0, space, starts):
+    """LM from each starting point; keep, per data set, the lowest converged cost."""
+    best, best_cost, ok = np.array(th0, float), np.full(len(T), np.inf), np.zeros(len(T), bool)
+    for start in starts:
+        th, conv = _levenberg_marquardt(m, T, y, mask, L, start, space)
+        rw, _ = _whitened(m, T, y, mask, L, th, space)
+        cost = np.where(conv, lsq.psum(rw * rw), np.inf)
+        better = cost < best_cost
+        best[better], best_cost[better] = th[better], cost[better]
+        ok |= conv
+    return best, ok
+
+
+def _status(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> list[str]:
+    """Why each data set cannot be fitted ("" where it can)."""
+    p = m.n_params
+    with np.errstate(invalid="ignore"):
+        bad_y = np.any(mask & ~np.isfinite(y), axis=1)
+    out = [""] * len(n)
+    for r in np.flatnonzero((n < p) | bad_y):
+        if n[r] == 0:
+            out[r] = f"every point is excluded: include at least {p} points to fit {m.label}"
+        elif n[r] < p:
+            out[r] = f"{m.label} needs at least {p} included points, got {n[r]}"
+        else:
+            out[r] = ("an included point has no finite ln p (vapor pressure <= 0?); exclude it "
+                      "or correct it")
+    return out
+
+
+def solve_stack(model: str | Model, T, y, mask, chol, *, space: str = "ln_p", start=None,
+                search: bool = True) -> tuple[np.ndarray, np.ndarray]:
+    """The parameters of R data sets for a fixed whitening: the solve inside every fit.
+
+    Parameters
+    ----------
+    model : str or Model
+    T, y, mask : array_like (R, N)
+    chol : array_like (N, N) or (R, N, N)
+        Lower Cholesky factor of the residual covariance (shared, or per set).
+    space, start, search
+        As for :func:`fit_stack`.
+
+    Returns
+    -------
+    theta : ndarray (R, p)
+        NaN where a set has too few points, a non-finite point, or no convergence.
+    ok : ndarray of bool (R,)
+    """
+    m = model if isinstance(model, Model) else get_model(model)
+    T = np.atleast_2d(np.asarray(T, float))
+    y = np.atleast_2d(np.asarray(y, float))
+    mask = np.broadcast_to(np.asarray(mask, bool), T.shape) & np.isfinite(T)
+    ok = np.array([s == "" for s in _status(m, mask.sum(axis=1), y, mask)])
+    Tsafe = np.where(mask, T, 300.0)
+    ysafe = np.where(mask & np.isfinite(y), y, 0.0)
+    L = np.asarray(chol, float)
+    th = np.full((len(T), m.n_params), np.nan)
+    g = np.flatnonzero(ok)
+    if not g.size:
+        return th, ok
+    Lg = L if L.ndim == 2 else L[g]
+    if m.linear and space == "ln_p":
+        th[g] = _solve_linear(m, Tsafe[g], ysafe[g], mask[g], Lg)
+        ok &= np.all(np.isfinite(th), axis=1)
+        return th, ok
+    given = None if start is None else np.broadcast_to(np.asarray(start, float),
+                                                       (len(T), m.n_params))[g]
+    starts = [given] if given is not None and not search else (
+        ([] if given is None else [given]) + [m.start(Tsafe[g], ysafe[g], mask[g])])
+    Lb = np.broadcast_to(Lg, (len(g),) + Lg.shape[-2:])
+    th[g], conv = _solve_nonlinear(m, Tsafe[g], ysafe[g], mask[g], Lb, starts[0], space, starts)
+    ok[g] &= conv
+    th[~ok] = np.nan
+    return th, ok
+
+
+def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", cov_y=None,
+              cov_yT=None, cov_T=None, space: str = "ln_p", start=None,
+              search: bool = True, influence: bool = True, chol=None) -> StackFit:
+    """Fit ln p = f(T) to R data sets at once.
+
+    Parameters
+    ----------
+    model : str or Model
+        One of :data:`vpkit.models.MODELS`.
+    T, y : array_like, shape (R, N)
+        Temperatures [K] and ln(p / Pa); values outside ``mask`` are ignored.
+    mask : array_like of bool, shape (R, N), optional
+        Points to fit (default all); the others get residuals only.
+    weighting : {"ordinary", "weighted", "gls"}
+    cov_y, cov_yT, cov_T : array_like, shape (R, N, N), optional
+        Covariance of y, cross-covariance of y with T, covariance of T.
+        Needed for ``weighted`` and ``gls``.
+    space : {"ln_p", "p"}
+        Residuals in ln p (default) or in p.
+    start : array_like, shape (p,) or (R, p), optional
+        Starting values of a nonlinear model (a profile search over C is
+        tried as well, and the better solution kept, unless ``search`` is
+        False).
+    search : bool
+        With ``start`` given, also try the profile search (default).
+    influence : bool
+        Compute leave-one-out enthalpies.
+    chol : array_like, shape (R, N, N) or (N, N), optional
+        A fixed whitening (lower Cholesky factor of the residual covariance):
+        no effective-variance rounds (Monte Carlo and self-consistent solves
+        reuse the nominal fit's weights).
+
+    Returns
+    -------
+    StackFit
+        Data sets that cannot be fitted get NaN numbers and the reason in
+        ``status``; this function never raises for them.
+    """
+    m = model if isinstance(model, Model) else get_model(model)
+    if weighting not in WEIGHTINGS:
+        raise FitError(f"weighting must be one of {', '.join(WEIGHTINGS)}, got {weighting!r}")
+    if space not in SPACES:
+        raise FitError(f"space must be one of {', '.join(SPACES)}, got {space!r}")
+    T = np.atleast_2d(np.asarray(T, float))
+    y = np.atleast_2d(np.asarray(y, float))
+    mask = np.ones(T.shape, bool) if mask is None else np.atleast_2d(np.asarray(mask, bool))
+    mask = mask & np.isfinite(T)
+    if weighting != "ordinary" and cov_y is None and chol is None:
+        raise FitError(f"weighting={weighting!r} needs the covariance of the points")
+    Rn, N = T.shape
+    p = m.n_params
+    n = mask.sum(axis=1)
+    status = _status(m, n, y, mask)
+    good = np.array([s == "" for s in status])
+    Tsafe = np.where(mask, T, 300.0)
+    ysafe = np.where(mask & np.isfinite(y), y, 0.0)
+    eye = np.broadcast_to(np.eye(N), (Rn, N, N))
+    if chol is not None:
+        L = np.array(np.broadcast_to(np.asarray(chol, float), (Rn, N, N)))
+    else:
+        L = np.array(eye)
+    # start: ordinary least squares (linear models) or the profile over C
+    th = np.full((Rn, p), np.nan)
+    g = np.flatnonzero(good)
+    starts = []
+    if g.size:
+        if m.linear:
+            th[g] = _solve_linear(m, Tsafe[g], ysafe[g], mask[g], eye[g])
+        else:
+            given = None if start is None else np.broadcast_to(np.asarray(start, float),
+                                                               (Rn, p))[g]
+            if given is not None and not search:
+                starts = [given]
+            else:
+                prof = m.start(Tsafe[g], ysafe[g], mask[g])
+                starts = [prof] if given is None else [given, prof]
+            th[g] = starts[0]
+    C = None
+    rounds = 4 if (weighting != "ordinary" and chol is None) else 1
+    active = good.copy()
+    p_ = m.n_params
+    last = {"Xw": np.zeros((Rn, N, p_)), "yw": np.zeros((Rn, N)), "Q": np.zeros((Rn, N, p_)),
+            "R": np.broadcast_to(np.eye(p_), (Rn, p_, p_)).copy(), "rank_ok": np.zeros(Rn, bool)}
+    for it in range(rounds):
+        a = np.flatnonzero(active)
+        if a.size == 0:
+            break
+        if weighting != "ordinary" and chol is None:
+            Ca = residual_covariance(
+                np.asarray(cov_y, float)[a], None if cov_yT is None else np.asarray(cov_yT)[a],
+                None if cov_T is None else np.asarray(cov_T)[a],
+                np.where(mask[a], m.df_dT(Tsafe[a], th[a]), 0.0))
+            if space == "p":
+                e = np.exp(m.f(Tsafe[a], th[a]))
+                Ca = Ca * e[..., :, None] * e[..., None, :]
+            if weighting == "weighted":
+                Ca = Ca * np.eye(N)
+            if C is None:
+                C = np.array(eye)
+            C[a] = Ca
+            L[a], okL = lsq.cholesky(lsq.masked_cov(Ca, mask[a]))
+            for r in a[~okL]:
+                status[r] = ("the covariance of the points is not positive definite "
+                             "(a point with zero or undefined uncertainty?)")
+                good[r] = active[r] = False
+            a = a[okL]
+        if m.linear and space == "ln_p":
+            new = _solve_linear(m, Tsafe[a], ysafe[a], mask[a], L[a], last, a)
+            conv = np.ones(len(a), bool)
+        else:
+            trial = [th[a]] if it else [s[np.searchsorted(g, a)] for s in starts]
+            new, conv = _solve_nonlinear(m, Tsafe[a], ysafe[a], mask[a], L[a], th[a], space,
+                                         trial)
+        for r in a[~conv]:
+            status[r] = (f"the {m.label} fit did not converge (the data may not fix its "
+                         "curvature: the parameters run off towards a straight line); prefer "
+                         "Clausius–Clapeyron or constant ΔCp, or widen the temperature range")
+            good[r] = active[r] = False
+        with np.errstate(all="ignore"):
+            change = np.max(np.abs(new - th[a]) / np.maximum(np.abs(th[a]), 1e-300), axis=1)
+        th[a] = new
+        active[a] = conv & ~(change < 1e-13)
+    reuse = last if (m.linear and space == "ln_p") else None
+    return _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
+                   reuse)
+
+
+def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
+            reuse=None):
+    """Covariance, χ², residuals, leverage and leave-one-out of converged fits."""
+    Rn, N = T.shape
+    p = m.n_params
+    good = np.array([s == "" for s in status])
+    n = mask.sum(axis=1)
+    cov = np.full((Rn, p, p), np.nan)
+    lev = np.full((Rn, N), np.nan)
+    chi2 = np.full(Rn, np.nan)
+    loo = np.full((Rn, N), np.nan)
+    g = np.flatnonzero(good)
+    dof = n - p
+    thg = np.where(good[:, None], th, 0.0)
+    if reuse is not None:  # linear: the whitened design does not depend on θ
+        Jw = reuse["Xw"]
+        rw = reuse["yw"] - psum_rows(Jw, thg)
+        fac = {"Q": reuse["Q"], "R": reuse["R"], "rank_ok": reuse["rank_ok"]}
+    else:
+        rw, Jw = _whitened(m, Tsafe, ysafe, mask, L, thg, space)
+        fac = lsq.lstsq(Jw, rw)
+    for r in np.flatnonzero(good & ~fac["rank_ok"]):
+        status[r] = ("the fit is singular: the points do not determine every parameter "
+                     "(e.g. all at one temperature)")
+    good &= fac["rank_ok"]
+    g = np.flatnonzero(good)
+    Rinv = lsq.upper_inverse(np.where(good[:, None, None], fac["R"], np.eye(p)))
+    cov0 = Rinv @ np.swapaxes(Rinv, -1, -2)
+    chi2[g] = lsq.psum(rw[g] * rw[g])
+    with np.errstate(all="ignore"):
+        chi2_red = np.where(dof > 0, chi2 / dof, np.nan)
+    if weighting == "ordinary":
+        scaled = np.ones(Rn, bool)
+        cov = cov0 * np.where(dof > 0, chi2_red, np.nan)[:, None, None]
+    else:
+        scaled = (dof > 0) & (chi2 > chi2_limits(dof))
+        cov = cov0 * np.where(scaled, chi2_red, 1.0)[:, None, None]
+    lev = np.where(mask, np.einsum("bnp,bnp->bn", fac["Q"], fac["Q"]), np.nan)
+    if C is None and weighting != "ordinary":  # a fixed whitening was given
+        C = L @ np.swapaxes(L, -1, -2)
+    f_all = m.f(np.where(np.isfinite(T), T, 300.0), thg)
+    with np.errstate(all="ignore"):
+        res = y - f_all if space == "ln_p" else np.exp(y) - np.exp(f_all)
+        if weighting == "ordinary":
+            norm = res / np.sqrt(chi2_red)[:, None]
+        else:
+            norm = res / np.sqrt(np.einsum("bii->bi", C))
+        T_m = 1.0 / (lsq.psum(np.where(mask, 1.0 / Tsafe, 0.0)) / n)
+    norm = np.where(mask, norm, np.nan)
+    res = np.where(np.isfinite(T), res, np.nan)
+    if influence:
+        loo = _leave_one_out(m, weighting, space, Tsafe, ysafe, mask, L, thg, fac, rw, T_m,
+                             good & (n - 1 >= p) & (n >= 3))
+    ill = np.zeros(Rn, bool)
+    if m.curvature_index is not None:
+        curv, sd = m.curvature(thg, cov)
+        with np.errstate(invalid="ignore"):
+            ill = good & ((np.abs(curv) < 2 * sd) | (n < 2 * p))
+    bad = ~good
+    th = np.where(bad[:, None], np.nan, th)
+    cov = np.where(bad[:, None, None], np.nan, cov)
+    for a in (chi2, chi2_red, T_m):
+        a[bad] = np.nan
+    lev[bad], loo[bad], res[bad], norm[bad] = np.nan, np.nan, np.nan, np.nan
+    return StackFit(m, weighting, space, _ro(th), _ro(cov), _ro(T), _ro(y), _ro(mask),
+                    _ro(res), _ro(norm), _ro(lev), _ro(loo), _ro(chi2), _ro(dof),
+                    _ro(chi2_red), _ro(scaled & good), _ro(T_m), _ro(n), _ro(L),
+                    None if C is None else _ro(C), tuple(status), _ro(ill))
+
+
+def _leave_one_out(m, weighting, space, T, y, mask, L, th, fac, rw, T_m, use):
+    """ΔH_vap at T_m with each point left out, keeping the full fit's covariance."""
+    Rn, N = T.shape
+    out = np.full((Rn, N), np.nan)
+    u = np.flatnonzero(use)
+    if u.size == 0:
+        return out
+    if m.linear and space == "ln_p":
+        W = lsq.forward_solve(L[u], np.broadcast_to(np.eye(N), (u.size, N, N)))
+        dth = lsq.leave_one_out(fac["Q"][u], fac["R"][u], W, rw[u], mask[u])
+        thk = th[u][:, None, :] + dth
+        out[u] = m.enthalpy(T_m[u][:, None], thk)
+        return out
+    # nonlinear: refit each data set with point k left out, from the full fit
+    for k in range(N):
+        sel = u[mask[u, k]]
+        if sel.size == 0:
+            continue
+        mk = mask[sel].copy()
+        mk[:, k] = False
+        C = L[sel] @ np.swapaxes(L[sel], -1, -2)
+        Lk, okL = lsq.cholesky(lsq.masked_cov(C, mk))
+        thk, conv = _levenberg_marquardt(m, T[sel], y[sel], mk, Lk, th[sel], space)
+        good = conv & okL
+        out[sel[good], k] = m.enthalpy(T_m[sel[good]], thk[good])
+    return out
+
+
+# ---------------------------------------------------------------------------
+# one data set
+# ---------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class FitResult:
+    """The fit of one data set: a view of one row of a :class:`StackFit` (frozen).
+
+    Attributes mirror :class:`StackFit` for that row (arrays of length ``n``,
+    the row's real points; scalars for the rest); ``warnings`` holds the
+    conditioning notice, if any.
+    """
+
+    stack: StackFit = field(repr=False)
+    index: int = 0
+    n: int | None = None
+
+    _POINTS = ("T", "y", "include", "residuals", "normalized_residuals", "leverage",
+               "loo_enthalpy")
+
+    def _row(self, name):
+        v = getattr(self.stack, name)[self.index]
+        if self.n is not None and name in self._POINTS:
+            return v[:self.n]
+        if self.n is not None and name == "residual_cov":
+            return v[:self.n, :self.n]
+        return v
+
+    model = property(lambda self: self.stack.model)
+    weighting = property(lambda self: self.stack.weighting)
+    space = property(lambda self: self.stack.space)
+    params = property(lambda self: self._row("params"))
+    cov = property(lambda self: self._row("cov"))
+    T = property(lambda self: self._row("T"))
+    y = property(lambda self: self._row("y"))
+    include = property(lambda self: self._row("include"))
+    residuals = property(lambda self: self._row("residuals"))
+    normalized_residuals = property(lambda self: self._row("normalized_residuals"))
+    leverage = property(lambda self: self._row("leverage"))
+    loo_enthalpy = property(lambda self: self._row("loo_enthalpy"))
+    chi2 = property(lambda self: float(self._row("chi2")))
+    dof = property(lambda self: int(self._row("dof")))
+    chi2_reduced = property(lambda self: float(self._row("chi2_reduced")))
+    scaled = property(lambda self: bool(self._row("scaled")))
+    T_m = property(lambda self: float(self._row("T_m")))
+
+    @property
+    def residual_cov(self):
+        return None if self.stack.residual_cov is None else self._row("residual_cov")
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        if not self.stack.ill_conditioned[self.index]:
+            return ()
+        m = self.model
+        T = self.T[self.include]
+        return (f"{m.label} is ill-conditioned for {len(T)} points over "
+                f"{T.max() - T.min():.0f} K ({self.stack.curvature_text(self.index)}): the "
+                "data do not fix the curvature, so extrapolations (boiling points) are "
+                "unsafe; prefer Clausius–Clapeyron, or widen the range",)
+
+    # -- values with uncertainty (correlated with the parameters) -----------------
     @functools.cached_property
     def _uparams(self):
         return tuple(uncertainties.correlated_values(list(self.params), self.cov))
@@ -227,16 +626,15 @@ class FitResult:
 
     def _linear(self, value: float, grad: np.ndarray):
         """value + grad·(θ - θ̂) as an uncertain number correlated with θ."""
-        up = self.uparams()
-        out = value
-        for g, u, t in zip(grad, up, self.params):
-            out = out + float(g) * (u - float(t))
+        out = float(value)
+        for gk, u, t in zip(grad, self.uparams(), self.params):
+            out = out + float(gk) * (u - float(t))
         return out
 
     def enthalpy_at(self, T: float):
         """ΔH_vap(T) with uncertainty [J/mol]."""
-        up = self.uparams()
-        return self.model.enthalpy(float(T), up)
+        g = self.model.enthalpy_grad(float(T), self.params)
+        return self._linear(float(self.model.enthalpy(float(T), self.params)), g)
 
     @property
     def enthalpy(self):
@@ -252,11 +650,10 @@ class FitResult:
     def ln_p_band(self, T, level: float = 0.95):
         """Confidence band of the fitted ln p at T: (lower, upper)."""
         T = np.asarray(T, float)
-        J = self.model.jac(T, self.params)
-        var = np.einsum("...i,ij,...j->...", J, self.cov, J)
+        sd = quad(self.model.jac(T, self.params), self.cov)
         k = stats.norm.ppf(0.5 + level / 2)
         f = self.ln_p(T)
-        return f - k * np.sqrt(var), f + k * np.sqrt(var)
+        return f - k * sd, f + k * sd
 
     def boiling_point(self, pressure=P_STANDARD):
         """Temperature [K] where the fitted curve reaches ``pressure`` [Pa].
@@ -265,386 +662,66 @@ class FitResult:
         then included. Returns an uncertain number correlated with the
         parameters.
         """
-        P = pressure
-        Pn = float(getattr(P, "nominal_value", P))
-        if not Pn > 0:
-            raise FitError(f"pressure must be positive, got {Pn}")
-        target = math.log(Pn)
-        Tb = self._solve_T(target)
+        Pn = float(getattr(pressure, "nominal_value", pressure))
+        if not (math.isfinite(Pn) and Pn > 0):
+            raise FitError(f"pressure must be a positive number of Pa, got {Pn}")
+        Tb = float(self.model.solve_T(math.log(Pn), self.params, self.T_m))
+        if not math.isfinite(Tb):
+            raise FitError(f"the fitted curve never reaches {Pn:g} Pa near the data")
         dfdT = float(self.model.df_dT(Tb, self.params))
-        grad = -self.model.jac(np.array([Tb]), self.params)[0] / dfdT
-        out = self._linear(Tb, grad)
-        if hasattr(P, "std_dev"):
-            out = out + (P - Pn) / (Pn * dfdT)
+        out = self._linear(Tb, -self.model.jac(Tb, self.params) / dfdT)
+        if hasattr(pressure, "std_dev"):
+            out = out + (pressure - Pn) / (Pn * dfdT)
         return out
-
-    def _solve_T(self, target: float) -> float:
-        m, th = self.model, self.params
-        if m.name == "clausius_clapeyron":
-            with np.errstate(divide="ignore", invalid="ignore"):
-                T = float(th[1] / (target - th[0]))
-            if not (np.isfinite(T) and T > 0):
-                raise FitError("the fitted line never reaches that pressure at a positive "
-                               "temperature")
-            return T
-        lo = 50.0 if m.name != "antoine" else max(50.0, -th[2] + 1e-6)
-        hi = 2000.0
-        g = lambda t: float(m.f(t, th)) - target  # noqa: E731
-        grid = np.linspace(lo, hi, 400)
-        vals = np.array([g(t) for t in grid])
-        sign = np.flatnonzero(np.sign(vals[:-1]) != np.sign(vals[1:]))
-        if sign.size == 0:
-            raise FitError("the fitted curve does not reach that pressure between 50 and 2000 K")
-        # take the crossing nearest the data
-        i = sign[np.argmin(np.abs(grid[sign] - self.T_m))]
-        return float(optimize.brentq(g, grid[i], grid[i + 1], xtol=1e-12))
 
     def entropy_at_boiling(self, pressure=P_STANDARD):
         """ΔS_vap = ΔH_vap(T_b)/T_b at the boiling point for ``pressure`` [J/(mol K)]."""
         Tb = self.boiling_point(pressure)
-        dH = self.model.enthalpy(Tb, self.uparams())
+        m, th = self.model, self.params
+        t = Tb.nominal_value
+        dH = self._linear(float(m.enthalpy(t, th)), m.enthalpy_grad(t, th))
+        dH = dH + float(m.enthalpy_dT(t, th)) * (Tb - t)
         return dH / Tb
 
     def trouton_verdict(self) -> str:
         """Plain-language comparison of ΔS_vap at the normal boiling point with Trouton's rule."""
         s = self.entropy_at_boiling()
-        v, u = s.nominal_value, s.std_dev
-        lo, hi = TROUTON_BAND
-        if lo - 2 * u <= v <= hi + 2 * u:
-            return f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): within Trouton's rule ({lo:g}–{hi:g})"
-        hlo, hhi = TROUTON_HBOND_BAND
-        if v > hi and hlo - 2 * u <= v <= hhi + 2 * u:
-            return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): above Trouton's rule, as for "
-                    f"hydrogen-bonded liquids ({hlo:g}–{hhi:g})")
-        return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): outside Trouton's rule ({lo:g}–{hi:g}) "
-                f"and the hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")
+        return trouton_verdict(s.nominal_value, s.std_dev)
 
 
-# ---------------------------------------------------------------------------
-# fitting
-# ---------------------------------------------------------------------------
+def trouton_verdict(v: float, u: float) -> str:
+    """Compare ΔS_vap = v ± u [J/(mol K)] with Trouton's rule (bands above, from memory)."""
+    lo, hi = TROUTON_BAND
+    if lo - 2 * u <= v <= hi + 2 * u:
+        return f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): within Trouton's rule ({lo:g}–{hi:g})"
+    hlo, hhi = TROUTON_HBOND_BAND
+    if v > hi and hlo - 2 * u <= v <= hhi + 2 * u:
+        return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): above Trouton's rule, as for "
+                f"hydrogen-bonded liquids ({hlo:g}–{hhi:g})")
+    return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): outside Trouton's rule ({lo:g}–{hi:g}) "
+            f"and the hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")
 
 
-def residual_covariance(cov_y, cov_yT, cov_T, dfdT):
-    """Covariance of y - f(T) from the covariances of y and T (effective variance)."""
-    D = np.diag(dfdT)
-    out = np.array(cov_y, float)
-    if cov_T is not None:
-        out = out - cov_yT @ D - D @ cov_yT.T + D @ cov_T @ D
-    return 0.5 * (out + out.T)
+def fit_points(T, y, *, model: str = "clausius_clapeyron", weighting: str = "gls",
+               include=None, cov_y=None, cov_yT=None, cov_T=None, space: str = "ln_p",
+               start=None, influence: bool = True) -> FitResult:
+    """Fit ln p = f(T) to one set of points: :func:`fit_stack` with R = 1.
 
-
-def _whitener(C: np.ndarray) -> np.ndarray:
-    """L^-1 with C = L L^T; raises FitError if C is not positive definite."""
-    try:
-        L = np.linalg.cholesky(C)
-    except np.linalg.LinAlgError:
-        raise FitError("the covariance of the points is not positive definite "
-                       "(a point with zero or undefined uncertainty?)") from None
-    return np.linalg.inv(L)
-
-
-def _solve(model: Model, T, y, Winv, th0, space, try_profile: bool = False):
-    """Minimise |Winv r|^2, r = y - f or exp(y) - exp(f); return θ.
-
-    For the nonlinear model, ``try_profile`` also starts from the profile
-    search over C and keeps the better solution (for far-off starting values).
-    """
-    if model.linear and space == "ln_p":
-        X = model.jac(T, None)
-        th, *_ = np.linalg.lstsq(Winv @ X, Winv @ y, rcond=None)
-        return th
-    obs = y if space == "ln_p" else np.exp(y)
-
-    def resid(th):
-        f = model.f(T, th)
-        r = obs - (f if space == "ln_p" else np.exp(f))
-        return Winv @ r
-
-    def jac(th):
-        J = model.jac(T, th)
-        if space == "p":
-            J = J * np.exp(model.f(T, th))[:, None]
-        return -(Winv @ J)
-
-    candidates = [np.asarray(th0, float)]
-    if model.name == "antoine" and try_profile:
-        candidates.append(_antoine_profile_start(T, y))
-    best = None
-    for start in candidates:
-        scale = np.maximum(np.abs(start), 1e-8)
-        with np.errstate(all="ignore"):
-            try:
-                sol = optimize.least_squares(resid, start, jac=jac, method="lm", x_scale=scale,
-                                             xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=20000)
-            except (ValueError, FloatingPointError):
-                continue
-        if np.all(np.isfinite(sol.x)) and (best is None or sol.cost < best.cost):
-            best = sol
-    if best is None:
-        raise FitError("the nonlinear fit did not converge", n_points=len(T),
-                       n_params=model.n_params)
-    return best.x
-
-
-def fit_points(
-    T,
-    y,
-    *,
-    model: str = "clausius_clapeyron",
-    weighting: str = "gls",
-    include=None,
-    cov_y=None,
-    cov_yT=None,
-    cov_T=None,
-    space: str = "ln_p",
-    start=None,
-    influence: bool = True,
-) -> FitResult:
-    """Fit ln p = f(T) to points.
-
-    Parameters
-    ----------
-    T : array_like
-        Temperatures [K].
-    y : array_like
-        ln(p / Pa).
-    model : str
-        One of :data:`MODELS`.
-    weighting : {"ordinary", "weighted", "gls"}
-    include : array_like of bool, optional
-        Points to fit (default all); the others get residuals only.
-    cov_y, cov_yT, cov_T : array_like, optional
-        Covariance of y, cross-covariance of y with T, covariance of T, over
-        all points. Needed for ``weighted`` and ``gls``.
-    space : {"ln_p", "p"}
-        Residuals in ln p (default) or in p.
-    start : array_like, optional
-        Starting values for a nonlinear model (a profile search over C is
-        tried as well, and the better solution kept).
-    influence : bool
-        Compute leave-one-out enthalpies.
-
-    Returns
-    -------
-    FitResult
+    Parameters are those of :func:`fit_stack` for one data set (1-D ``T``,
+    ``y``, ``include``; 2-D covariances).
 
     Raises
     ------
     FitError
-        Too few points for the model, or a singular problem.
+        Too few points for the model, a singular problem, or no convergence.
     """
     m = get_model(model)
-    if weighting not in WEIGHTINGS:
-        raise FitError(f"weighting must be one of {', '.join(WEIGHTINGS)}, got {weighting!r}")
-    T = np.asarray(T, float)
-    y = np.asarray(y, float)
-    n_all = len(T)
-    inc = np.ones(n_all, bool) if include is None else np.asarray(include, bool)
-    idx = np.flatnonzero(inc)
-    n, p = len(idx), m.n_params
-    if n == 0:
-        raise FitError("every point is excluded: include at least "
-                       f"{p} points to fit {m.label}", n_points=0, n_params=p)
-    if n < p:
-        raise FitError(f"{m.label} needs at least {p} included points, got {n}", n_points=n,
-                       n_params=p)
-    if not np.all(np.isfinite(y[idx])):
-        raise FitError("an included point has no finite ln p (vapor pressure <= 0?); "
-                       "exclude it or correct it", n_points=n, n_params=p)
-    if weighting != "ordinary" and cov_y is None:
-        raise FitError(f"weighting={weighting!r} needs the covariance of the points")
-    Ti, yi = T[idx], y[idx]
-    sub = np.ix_(idx, idx)
-    cy = None if cov_y is None else np.asarray(cov_y, float)[sub]
-    cyT = None if cov_yT is None else np.asarray(cov_yT, float)[sub]
-    cT = None if cov_T is None else np.asarray(cov_T, float)[sub]
-
-    th = np.asarray(start, float) if start is not None else m.start(Ti, yi)
-    C = None
-    for it in range(4 if weighting != "ordinary" else 1):
-        if weighting == "ordinary":
-            Winv = np.eye(n)
-        else:
-            C = residual_covariance(cy, cyT, cT, m.df_dT(Ti, th))
-            if space == "p":
-                e = np.exp(m.f(Ti, th))
-                C = C * np.outer(e, e)
-            if weighting == "weighted":
-                C = np.diag(np.diag(C))
-            Winv = _whitener(C)
-        th_new = _solve(m, Ti, yi, Winv, th, space, try_profile=(it == 0 and start is not None))
-        converged = bool(np.max(np.abs(th_new - th) / np.maximum(np.abs(th), 1e-300)) < 1e-13)
-        th = th_new
-        if converged:
-            break
-
-    # covariance, χ²
-    J = m.jac(Ti, th)
-    f = m.f(Ti, th)
-    r = yi - f if space == "ln_p" else np.exp(yi) - np.exp(f)
-    if space == "p":
-        J = J * np.exp(f)[:, None]
-    Jw = Winv @ J
-    rw = Winv @ r
-    dof = n - p
-    chi2 = float(rw @ rw)
-    chi2_red = chi2 / dof if dof > 0 else float("nan")
-    try:
-        U, s, Vt = np.linalg.svd(Jw, full_matrices=False)
-    except np.linalg.LinAlgError:
-        raise FitError("the fit is singular", n_points=n, n_params=p) from None
-    if s.min() <= s.max() * 1e-14:
-        raise FitError("the fit is singular: the points do not determine every parameter "
-                       "(e.g. all at one temperature)", n_points=n, n_params=p)
-    cov0 = (Vt.T / s**2) @ Vt
-    scaled = False
-    if weighting == "ordinary":
-        cov = cov0 * (chi2_red if dof > 0 else np.nan)
-        scaled = True
-    elif dof > 0 and chi2 > _chi2_limit(dof):
-        cov, scaled = cov0 * chi2_red, True
-    else:
-        cov = cov0
-    lev = np.full(n_all, np.nan)
-    lev[idx] = np.sum(U**2, axis=1)
-
-    # residuals of every point
-    f_all = m.f(T, th)
-    res = y - f_all if space == "ln_p" else np.exp(y) - np.exp(f_all)
-    norm = np.full(n_all, np.nan)
-    if weighting == "ordinary":
-        norm[idx] = r / math.sqrt(chi2_red) if dof > 0 else np.nan
-    else:
-        norm[idx] = r / np.sqrt(np.diag(C))
-    T_m = float(1.0 / np.mean(1.0 / Ti))
-
-    warn = list(_conditioning_warnings(m, th, cov, Ti, n))
-    loo = np.full(n_all, np.nan)
-    if influence and n - 1 >= p and n >= 3:
-        loo[idx] = _leave_one_out(m, Ti, yi, C, th, space, T_m)
-    result = FitResult(m, weighting, th, cov, T, y, inc, res, norm, lev, loo, chi2, dof,
-                       chi2_red, scaled, T_m, tuple(warn), space,
-                       None if C is None else C)
-    return result
-
-
-def _leave_one_out(m: Model, T, y, C, th, space, T_m) -> np.ndarray:
-    """ΔH_vap at T_m with each point left out, keeping the full fit's weights.
-
-    For the linear models all n refits come at once: deleting point k from a
-    generalized least-squares problem with precision matrix P = C^-1 leaves
-    the precision P - P[:, k] P[k, :] / P[k, k] on the other points (Schur
-    complement), so A_k = A - a_k a_k^T / P_kk and b_k = b - a_k (P y)_k / P_kk
-    with A = X^T P X, b = X^T P y, a_k = X^T P[:, k].
-    """
-    n = len(T)
-    out = np.full(n, np.nan)
-    if m.linear and space == "ln_p":
-        X = m.jac(T, None)
-        P = np.eye(n) if C is None else np.linalg.inv(C)
-        A = X.T @ P @ X
-        b = X.T @ P @ y
-        a = X.T @ P  # (p, n): column k is a_k
-        Py = P @ y
-        d = np.diag(P)
-        Ak = A[None] - np.einsum("pk,qk->kpq", a, a) / d[:, None, None]
-        bk = b[None] - (a * (Py / d)).T
-        try:
-            thk = np.linalg.solve(Ak, bk[..., None])[..., 0]
-        except np.linalg.LinAlgError:
-            return out
-        return np.asarray(m.enthalpy(T_m, [thk[:, j] for j in range(m.n_params)]), float)
-    for k in range(n):
-        keep = np.arange(n) != k
-        try:
-            Wk = np.eye(n - 1) if C is None else _whitener(C[np.ix_(keep, keep)])
-            th_k = _solve(m, T[keep], y[keep], Wk, th, space)
-        except (FitError, np.linalg.LinAlgError):
-            continue
-        out[k] = float(m.enthalpy(T_m, th_k))
-    return out
-
-
-@functools.lru_cache(maxsize=256)
-def _chi2_limit(dof: int) -> float:
-    """95th percentile of χ² with ``dof`` degrees of freedom."""
-    return float(stats.chi2.ppf(0.95, dof))
-
-
-def _conditioning_warnings(m: Model, th, cov, T, n) -> list[str]:
-    """Warn when a three-parameter model is not supported by the data.
-
-    Rule (ours): the curvature parameter (C of Antoine, c = ΔCp/R of the
-    constant-ΔCp form; both are zero for a straight Clausius-Clapeyron line) is
-    less than twice its standard uncertainty, or there are fewer than two
-    points per parameter.
-    """
-    if m.n_params < 3:
-        return []
-    span = float(T.max() - T.min())
-    sd = float(np.sqrt(cov[2, 2]))
-    curv = float(th[2])
-    if m.name == "antoine":
-        what = f"C = {curv:.0f} ± {sd:.0f} K"
-    else:
-        what = f"ΔCp = {R * curv:.0f} ± {R * sd:.0f} J/(mol K)"
-    if abs(curv) < 2 * sd or n < 2 * m.n_params:
-        return [f"{m.label} is ill-conditioned for {n} points over {span:.0f} K ({what}): the "
-                "data do not fix the curvature, so extrapolations (boiling points) are unsafe; "
-                "prefer Clausius–Clapeyron, or widen the range"]
-    return []
-
-
-def fit_batch(model: str, T: np.ndarray, y: np.ndarray, Winv: np.ndarray, start,
-              iterations: int = 12) -> np.ndarray:
-    """Fit many data sets at once with one fixed whitening matrix.
-
-    Parameters
-    ----------
-    model : str
-    T, y : ndarray, shape (B, n)
-        Temperatures [K] and ln(p/Pa) of B data sets of the same n points.
-    Winv : ndarray, shape (n, n)
-        Whitening matrix (inverse Cholesky factor of the residual covariance).
-    start : array_like, shape (p,)
-        Starting parameters (used by the nonlinear model).
-    iterations : int
-        Gauss-Newton steps for the nonlinear model.
-
-    Returns
-    -------
-    ndarray, shape (B, p)
-        NaN rows where the nonlinear fit did not converge.
-    """
-    m = get_model(model)
-    B = T.shape[0]
-    yw = y @ Winv.T
-    if m.linear:
-        X = m.jac(T, None)  # (B, n, p)
-        Xw = np.matmul(Winv, X)
-        A = np.matmul(Xw.transpose(0, 2, 1), Xw)
-        rhs = np.matmul(Xw.transpose(0, 2, 1), yw[..., None])
-        return np.linalg.solve(A, rhs)[..., 0]
-    th = np.repeat(np.asarray(start, float)[None, :], B, axis=0)
-    step = np.zeros_like(th)
-    for _ in range(iterations):
-        thc = [th[:, k][:, None] for k in range(m.n_params)]
-        r = y - m.f(T, thc)
-        J = m.jac(T, [th[:, k] for k in range(m.n_params)])
-        Jw = np.einsum("ij,bjp->bip", Winv, J)
-        rw = r @ Winv.T
-        A = np.einsum("bip,biq->bpq", Jw, Jw)
-        rhs = np.einsum("bip,bi->bp", Jw, rw)
-        # rows that diverged (non-finite) are kept as NaN, never solved
-        good = np.all(np.isfinite(A), axis=(1, 2)) & np.all(np.isfinite(rhs), axis=1)
-        A[~good] = np.eye(m.n_params)
-        rhs[~good] = 0.0
-        A = A + np.eye(m.n_params) * (1e-14 * np.trace(A, axis1=1, axis2=2))[:, None, None]
-        step = np.linalg.solve(A, rhs[..., None])[..., 0]
-        th = th + step
-        th[~good] = np.nan
-    # rows whose last step was still large did not converge: NaN, never a number
-    unconverged = np.any(np.abs(step) > 1e-6 * np.maximum(np.abs(th), 1.0), axis=1)
-    th[unconverged] = np.nan
-    return th
+    T = np.asarray(T, float)[None]
+    add = lambda c: None if c is None else np.asarray(c, float)[None]  # noqa: E731
+    sf = fit_stack(m, T, np.asarray(y, float)[None],
+                   None if include is None else np.asarray(include, bool)[None],
+                   weighting=weighting, cov_y=add(cov_y), cov_yT=add(cov_yT), cov_T=add(cov_T),
+                   space=space, start=start, influence=influence)
+    if sf.status[0]:
+        raise FitError(sf.status[0], n_points=int(sf.n[0]), n_params=m.n_params)
+    return FitResult(sf, 0)

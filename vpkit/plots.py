@@ -80,7 +80,7 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
                  color="tab:red", lw=st["lw"], capsize=0)
     if exc.any():
         axr.plot(x[exc], res[exc], "s", ms=st["ms"], mfc="none", mec="0.3", mew=st["lw"])
-    axr.set_ylabel("residual", fontsize=st["font"])
+    axr.set_ylabel(r"$\Delta \ln p$", fontsize=st["font"])
     axr.set_xlabel(r"$1000\,\mathrm{K}/T$", fontsize=st["font"])
     top = ax.secondary_xaxis("top", functions=(lambda v: 1000.0 / np.asarray(v) - T_ZERO_C,
                                                lambda t: 1000.0 / (np.asarray(t) + T_ZERO_C)))
@@ -121,7 +121,7 @@ def overview_figure(summary, width_mm: float = 175.0) -> Figure:
         ax.errorbar(part["ΔH_vap [kJ/mol]"][flagged], ys[flagged.to_numpy()],
                     xerr=part["u(ΔH_vap) [kJ/mol]"][flagged], fmt="s", ms=st["ms"],
                     mfc="none", color=color, lw=st["lw"], capsize=0)
-        ref = part["reference ΔH_vap [kJ/mol]"].median()
+        ref = part["reference ΔH_vap at T_m [kJ/mol]"].median()
         if np.isfinite(ref):
             ax.plot([ref, ref], [ys[0] - 0.4, ys[-1] + 0.4], color=color, lw=st["lw"], ls="--")
         ticks += list(ys)

@@ -98,7 +98,7 @@ def vapor_pressure(P_total, p_air):
 
 
 # ---------------------------------------------------------------------------
-# the whole chain, vectorised
+# the whole chain, on a stack of runs
 # ---------------------------------------------------------------------------
 
 
@@ -106,46 +106,53 @@ def vapor_pressure(P_total, p_air):
 class ReductionSetup:
     """The choices of a reduction (no numbers that carry uncertainty).
 
+    Per-run fields are scalars (the same for every run) or arrays of shape
+    (R,) that broadcast over the runs of the batch.
+
     Attributes
     ----------
     air_from : {"weighed", "cold", "injected"}
-        How the air amount is found (METHOD 2.3 c, b, a).
-    vapor_at_air_reference : {"fit", "reference", "neglect"}
-        How p_vap at the air-reference temperature is taken (for "weighed"
-        and "cold"): self-consistently from the fitted curve, from a published
-        equation, or neglected.
-    cold_index : int
-        Reading used as the cold reference for ``air_from="cold"``.
-    offset_from_weighing : bool
-        Calibrate the scale offset from the weighing (else ``scale_offset``).
-    direction : int
-        +1 graduated from the closed end, -1 from the open end.
-    use_head : bool
-        Add the hydrostatic head rho g h of the bubble depth.
+        How the air amount is found (METHOD 2.3 c, b, a); one method per call.
     gas_mass : bool
         Count the trapped gas's own mass in the weighing.
+    direction : int or ndarray (R,)
+        +1 graduated from the closed end, -1 from the open end.
+    offset_from_weighing : bool or ndarray (R,)
+        Calibrate the scale offset from the weighing (else ``scale_offset``).
+    cold_index : int or ndarray (R,)
+        Reading used as the cold reference for ``air_from="cold"``.
+    use_head : bool or ndarray (R,)
+        Add the hydrostatic head rho g h of the bubble depth.
     """
 
     air_from: str = "weighed"
-    vapor_at_air_reference: str = "fit"
-    cold_index: int = 0
-    offset_from_weighing: bool = True
-    direction: int = 1
-    use_head: bool = True
     gas_mass: bool = True
+    direction: int | np.ndarray = 1
+    offset_from_weighing: bool | np.ndarray = True
+    cold_index: int | np.ndarray = 0
+    use_head: bool | np.ndarray = True
+
+
+def _b(value, like):
+    """A per-run setting shaped to broadcast against a batch array ``like``."""
+    v = np.asarray(value)
+    if v.ndim == 0:
+        return v
+    return v.reshape(v.shape + (1,) * (np.ndim(like) - v.ndim))
 
 
 def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> dict:
-    """Reduce readings to vapor pressures (any leading batch shape).
+    """Reduce readings to vapor pressures for any batch of runs.
 
     Parameters
     ----------
     x : mapping
-        ``T``, ``reading``, ``P`` (per-point pressure before the head) with
-        shape (..., n); scalars per run with shape (...): ``P_bar``,
-        ``T_room``, ``room_reading``, ``mass_before``, ``mass_after``,
-        ``density``, ``V_injected``, ``scale_offset``, ``depth``. Entries the
-        setup does not use may be absent.
+        Per point, shape (..., n): ``T`` [K], ``reading`` [m^3] and ``P`` (own
+        pressure [Pa], NaN where the point sees the barometric pressure).
+        Per run, shape (...): ``P_bar`` [Pa], ``T_room`` [K], ``room_reading``
+        [m^3], ``mass_before``, ``mass_after`` [kg], ``density`` [kg/m^3],
+        ``V_injected``, ``scale_offset`` [m^3], ``depth`` [m]. Entries the
+        setup does not use may be absent or NaN.
     setup : ReductionSetup
     p_ref : array_like, shape (...)
         Vapor pressure at the air-reference temperature [Pa] (ignored for
@@ -157,73 +164,95 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
         ``V``, ``P_total``, ``p_air``, ``p_vap`` (..., n); ``n_air``,
         ``V_room`` (...).
     """
-    d = setup.direction
+    P_bar, T_room = x["P_bar"], x["T_room"]
+    d = _b(setup.direction, P_bar)
+    nan = np.full(np.shape(P_bar), np.nan)
+    get = lambda k: x[k] if k in x else nan  # noqa: E731
     T = x["T"]
-    if setup.offset_from_weighing:
-        rho_gas = gas_density(x["P_bar"], x["T_room"]) if setup.gas_mass else 0.0
-        V_room = room_gas_volume(x["mass_before"], x["mass_after"], x["density"], rho_gas)
-        offset = scale_offset(V_room, x["room_reading"], d)
-    else:
-        offset = x["scale_offset"]
-        V_room = (bubble_volume(x["room_reading"], offset, d)
-                  if "room_reading" in x else np.nan * offset)
-    V = bubble_volume(x["reading"], offset[..., None], d)
-    if setup.use_head and "depth" in x:
-        P_total = total_pressure(x["P"], x["depth"][..., None], x["density"][..., None])
-    else:
-        P_total = x["P"]
-    if setup.air_from == "injected":
-        n_air = air_amount(x["P_bar"], 0.0, x["V_injected"], x["T_room"])
-    elif setup.air_from == "weighed":
-        n_air = air_amount(x["P_bar"], p_ref, V_room, x["T_room"])
-    elif setup.air_from == "cold":
-        c = setup.cold_index
-        n_air = air_amount(P_total[..., c], p_ref, V[..., c], T[..., c])
-    else:
-        raise ValueError(f"air_from must be one of {AIR_METHODS}, got {setup.air_from!r}")
-    p_air = air_partial_pressure(n_air[..., None], V, T)
-    return {
-        "V": V,
-        "P_total": P_total,
-        "p_air": p_air,
-        "p_vap": vapor_pressure(P_total, p_air),
-        "n_air": n_air,
-        "V_room": V_room,
-    }
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rho_gas = gas_density(P_bar, T_room) if setup.gas_mass else 0.0
+        V_room_w = room_gas_volume(get("mass_before"), get("mass_after"), get("density"),
+                                   rho_gas)
+        weighing = _b(setup.offset_from_weighing, P_bar)
+        offset = np.where(weighing, scale_offset(V_room_w, get("room_reading"), d),
+                          get("scale_offset"))
+        V_room = np.where(weighing, V_room_w, bubble_volume(get("room_reading"), offset, d))
+        V = bubble_volume(x["reading"], offset[..., None], d[..., None])
+        P_point = x.get("P")
+        P = (np.broadcast_to(P_bar[..., None], np.shape(T)) if P_point is None
+             else np.where(np.isnan(P_point), P_bar[..., None], P_point))
+        depth = np.where(_b(setup.use_head, P_bar) & np.isfinite(get("depth")), get("depth"),
+                         0.0)
+        P_total = total_pressure(P, depth[..., None], get("density")[..., None])
+        if setup.air_from == "injected":
+            n_air = air_amount(P_bar, 0.0, get("V_injected"), T_room)
+        elif setup.air_from == "weighed":
+            n_air = air_amount(P_bar, p_ref, V_room, T_room)
+        elif setup.air_from == "cold":
+            c = np.broadcast_to(_b(setup.cold_index, P_bar), np.shape(P_bar)).astype(int)
+            take = lambda a: np.take_along_axis(  # noqa: E731
+                a, np.broadcast_to(c[..., None], np.shape(a)[:-1] + (1,)), axis=-1)[..., 0]
+            n_air = air_amount(take(P_total), p_ref, take(V), take(T))
+        else:
+            raise ValueError(f"air_from must be one of {AIR_METHODS}, got {setup.air_from!r}")
+        p_air = air_partial_pressure(n_air[..., None], V, T)
+        p_vap = vapor_pressure(P_total, p_air)
+    return {"V": V, "P_total": P_total, "p_air": p_air, "p_vap": p_vap, "n_air": n_air,
+            "V_room": V_room}
 
 
 def air_reference_temperature(x: Mapping[str, np.ndarray], setup: ReductionSetup):
     """Temperature at which the air amount is fixed (room or cold reading) [K]."""
     if setup.air_from == "cold":
-        return x["T"][..., setup.cold_index]
+        c = np.broadcast_to(_b(setup.cold_index, x["T_room"]), np.shape(x["T_room"]))
+        idx = np.broadcast_to(c.astype(int)[..., None], np.shape(x["T"])[:-1] + (1,))
+        return np.take_along_axis(x["T"], idx, axis=-1)[..., 0]
     return x["T_room"]
 
 
-def point_flags(T, V, P_total, p_vap, T_boil=None) -> list[tuple[str, ...]]:
-    """Plain-language flags for physically impossible or suspect points.
+#: Point flags: key -> plain-language text (the value that triggered it is added).
+FLAG_TEXT = {
+    "volume": "gas volume is not positive: check the scale offset and direction",
+    "p_low": "vapor pressure <= 0: the bubble is smaller than the air alone would fill "
+             "(check the reading or the air amount)",
+    "p_high": "vapor pressure >= total pressure: impossible below boiling",
+    "above_boiling": "bath above the measured boiling point: the bubble cannot be stable",
+    "shrinks": "gas volume smaller than at a lower temperature",
+}
 
+
+def point_flag_arrays(T, V, P_total, p_vap, T_boil=None, mask=None, skip=None) -> dict:
+    """Which points are physically impossible or suspect, for a batch (..., n).
+
+    ``mask`` marks real points; ``skip`` points exempt from the pressure flags
+    (the cold reference, where p_vap equals the value taken there by
+    construction). Returns key -> boolean array (keys of :data:`FLAG_TEXT`).
     Flags never remove a point; the caller shows them.
-
-    Returns
-    -------
-    list of tuple of str
-        One tuple of flags per point (empty when nothing is wrong).
     """
     T = np.asarray(T, float)
     V = np.asarray(V, float)
-    flags: list[list[str]] = [[] for _ in T]
-    for i in range(len(T)):
-        if V[i] <= 0:
-            flags[i].append("gas volume is not positive: check the scale offset and direction")
-        if p_vap[i] <= 0:
-            flags[i].append("vapor pressure <= 0: the bubble is smaller than the air alone "
-                            "would fill (check the reading or the air amount)")
-        elif p_vap[i] >= P_total[i]:
-            flags[i].append("vapor pressure >= total pressure: impossible below boiling")
-        if T_boil is not None and T[i] > T_boil:
-            flags[i].append("bath above the measured boiling point: the bubble cannot be stable")
-    order = np.argsort(T)
-    for a, b in zip(order[:-1], order[1:]):
-        if T[b] > T[a] and V[b] < V[a]:
-            flags[b].append("gas volume smaller than at a lower temperature")
-    return [tuple(f) for f in flags]
+    mask = np.isfinite(T) if mask is None else np.asarray(mask, bool)
+    skip = np.zeros(T.shape, bool) if skip is None else np.asarray(skip, bool)
+    with np.errstate(invalid="ignore"):
+        out = {
+            "volume": mask & (V <= 0),
+            "p_low": mask & ~skip & ~(V <= 0) & (np.asarray(p_vap) <= 0),
+            "p_high": mask & ~skip & (np.asarray(p_vap) >= np.asarray(P_total)),
+            "above_boiling": mask & (np.zeros(T.shape, bool) if T_boil is None
+                                     else T > np.asarray(T_boil, float)[..., None]),
+        }
+        Ts = np.where(mask, T, np.inf)
+        order = np.argsort(Ts, axis=-1, kind="stable")
+        Tsorted = np.take_along_axis(Ts, order, axis=-1)
+        Vsorted = np.take_along_axis(np.where(mask, V, np.nan), order, axis=-1)
+        hit = (np.diff(Tsorted, axis=-1) > 0) & (np.diff(Vsorted, axis=-1) < 0)
+        shrink = np.zeros(T.shape, bool)
+        np.put_along_axis(shrink, order[..., 1:], hit, axis=-1)
+    out["shrinks"] = shrink & mask
+    return out
+
+
+def point_flags(T, V, P_total, p_vap, T_boil=None) -> list[tuple[str, ...]]:
+    """Plain-language flags of one run's points (one tuple of texts per point)."""
+    flags = point_flag_arrays(T, V, P_total, p_vap, T_boil)
+    return [tuple(FLAG_TEXT[k] for k in FLAG_TEXT if flags[k][i]) for i in range(len(T))]

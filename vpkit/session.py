@@ -26,7 +26,8 @@ from pathlib import Path
 from typing import Any
 
 from .errors import InputError
-from .run import Run, format_run
+from .run import Run
+from .runfile import format_run
 
 SCHEMA = 1
 KIND = "vpkit-session"

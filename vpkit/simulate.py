@@ -15,8 +15,8 @@ from collections.abc import Callable, Mapping
 
 import numpy as np
 
-from .constants import G_N, R
-from .reduce import gas_density
+from .constants import R
+from .reduce import air_amount, gas_density, total_pressure
 from .run import Entry, Run
 from .units import from_si
 
@@ -27,6 +27,44 @@ BENCH_UNITS = {"T": "degC", "V": "mL", "P": "kPa", "m": "g", "rho": "g/mL", "L":
 #: (the same defaults as vpkit.run.DEFAULT_UNCERTAINTY).
 NOISE = {"reading": 0.005e-6, "T": 0.2, "P_bar": 100.0, "T_room": 0.3, "mass": 1e-6,
          "V_injected": 0.01e-6, "depth": 0.003}
+
+
+def forward_readings(p_T, p_room, T, *, P_bar, T_room, V_room, offset, direction=1,
+                     density, depth=None, gas_mass: bool = True, mass_before=0.030) -> dict:
+    """Noise-free readings of runs whose true vapor pressure is known (any batch shape).
+
+    The inverse of :func:`vpkit.reduce.reduce_chain`, step by step: the weighed
+    air amount at room temperature, the mass drop of the weighing, the room
+    reading, then at each bath temperature the gas volume that holds that air
+    at the total pressure minus the vapor pressure, and its graduation reading.
+
+    Parameters
+    ----------
+    p_T : array_like (..., n)
+        True vapor pressure at the bath temperatures T (..., n) [Pa].
+    p_room : array_like (...)
+        True vapor pressure at the room temperature [Pa].
+    P_bar, T_room, V_room, offset, direction, density, depth, mass_before : array_like (...)
+        Barometric pressure [Pa], room temperature [K], gas volume at the
+        weighing [m^3], volume below the zero mark [m^3], +1/-1, liquid density
+        [kg/m^3], bubble depth [m] (None: no head), mass before the air [kg].
+
+    Returns
+    -------
+    dict
+        ``reading`` (..., n) [m^3]; ``mass_after`` [kg], ``room_reading`` and
+        ``V_injected`` [m^3] (...).
+    """
+    P_bar, T_room = np.asarray(P_bar, float), np.asarray(T_room, float)
+    n_air = air_amount(P_bar, p_room, V_room, T_room)
+    rho_gas = gas_density(P_bar, T_room) if gas_mass else 0.0
+    col = lambda v: np.asarray(v, float)[..., None]  # noqa: E731
+    P_tot = total_pressure(col(P_bar), 0.0 if depth is None else col(depth), col(density))
+    V = n_air[..., None] * R * np.asarray(T, float) / (P_tot - np.asarray(p_T, float))
+    return {"reading": (V - col(offset)) / col(direction),
+            "mass_after": mass_before - V_room * (density - rho_gas),
+            "room_reading": (V_room - offset) / direction,
+            "V_injected": n_air * R * T_room / P_bar}
 
 
 def simulate_run(
@@ -80,16 +118,12 @@ def simulate_run(
     """
     T = np.asarray(T, float)
     rng = rng or np.random.default_rng(0)
-    p_room = float(p_true(np.array([T_room]))[0])
-    n_air = (P_bar - p_room) * V_room / (R * T_room)
-    rho_gas = gas_density(P_bar, T_room) if gas_mass else 0.0
-    mass_after = mass_before - V_room * (density - rho_gas)
-    room_reading = (V_room - offset) / direction
-    P_tot = P_bar + (density * G_N * depth if depth is not None else 0.0)
-    V = n_air * R * T / (P_tot - p_true(T))
-    reading = (V - offset) / direction
-    V_inj = n_air * R * T_room / P_bar
-
+    true = forward_readings(p_true(T), float(p_true(np.array([T_room]))[0]), T, P_bar=P_bar,
+                            T_room=T_room, V_room=V_room, offset=offset, direction=direction,
+                            density=density, depth=depth, gas_mass=gas_mass,
+                            mass_before=mass_before)
+    mass_after, room_reading = true["mass_after"], true["room_reading"]
+    reading, V_inj = true["reading"], true["V_injected"]
     def noisy(value, key):
         if noise is None or not noise.get(key):
             return value

@@ -9,7 +9,8 @@ import numpy as np
 import vpkit
 from tests.conftest import make_run
 from vpkit.__main__ import main
-from vpkit.report import write_batch_report
+from vpkit.batch import analyze_many
+from vpkit.batch_report import write_batch_report
 from vpkit.simulate import NOISE
 
 
@@ -44,7 +45,7 @@ def _folder(tmp_path):
 
 
 def test_html_is_self_contained_and_escapes_user_text(tmp_path):
-    res = write_batch_report(_folder(tmp_path), tmp_path / "out")
+    res = write_batch_report(analyze_many(_folder(tmp_path)), tmp_path / "out")
     html = res["html"].read_text()
     p = _Collect()
     p.feed(html)
@@ -54,16 +55,20 @@ def test_html_is_self_contained_and_escapes_user_text(tmp_path):
     assert "<script>alert" not in html and "&lt;script&gt;alert" in html
     text = " ".join(p.text)
     assert "Safety" in text and "Methods" in text and "pair9.csv" in text
-    assert "1 point(s) were excluded" in text
+    assert "1 point(s) were left out of the fits" in text
+    assert "Runs not analysed" in text
 
 
 def test_markdown_report_and_summary(tmp_path):
-    res = write_batch_report(_folder(tmp_path), tmp_path / "out")
+    res = write_batch_report(analyze_many(_folder(tmp_path)), tmp_path / "out")
     md = res["markdown"].read_text()
     assert "![overview](figures/overview.png)" in md
     assert (tmp_path / "out" / "figures" / "pair1.png").exists()
     assert "&lt;script&gt;" in md and "\\| bubble lost" in md
-    assert len(res["summary"]) == 4 and len(res["failed"]) == 1
+    summary = res["summary"]
+    assert len(summary) == 5 and len(res["failed"]) == 1  # the unreadable file keeps a row
+    assert (summary["status"] == "").sum() == 4
+    assert "pair9.csv" in summary.loc[summary["status"] != "", "run_id"].iloc[0]
 
 
 def test_report_command(tmp_path, capsys):

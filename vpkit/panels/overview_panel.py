@@ -1,10 +1,10 @@
 """Overview of many runs: ΔH_vap of every run against the reference, a sortable
 table with flags, and a drill-down into the single-run explorer.
 
-The panel does no physics: it calls :func:`vpkit.batch.analyze_table` and
+The panel does no physics: it calls :func:`vpkit.batch.analyze_many` and
 opens :class:`vpkit.panels.RunPanel` for a selected run. Point exclusions made
 there are saved in that run's session file and come back into the summary on
-:meth:`OverviewPanel.refresh`.
+:meth:`OverviewPanel.refresh`. Numbers are shown by :mod:`vpkit.display`.
 """
 
 from __future__ import annotations
@@ -14,20 +14,21 @@ import io
 
 import ipywidgets as W
 
-from ..batch import analyze_table, read_runs, table_to_runs
+from .. import display as D
+from ..batch import analyze_many
 from ..plots import overview_figure
 from ..report import SAFETY_NOTE
 from .run_panel import RunPanel
 
 TABLE_COLUMNS = ["run_id", "liquid", "points used", "ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]",
-                 "deviation [u]", "T_b at 101.325 kPa [degC]", "measured - predicted T_b [K]",
-                 "reduced chi2", "flags"]
+                 "deviation from reference [u]", "T_b at 101.325 kPa [degC]",
+                 "measured - predicted T_b [K]", "reduced chi2", "flags", "status"]
 
 
 def overview(source, **options) -> OverviewPanel:
     """Open the overview of a folder of run files or a long-table CSV.
 
-    ``options`` go to :func:`vpkit.batch.analyze_table` (weighting, air_from, ...).
+    ``options`` are those of :func:`vpkit.analyze` (weighting, air_from, ...).
     """
     return OverviewPanel(source, **options)
 
@@ -38,7 +39,7 @@ class OverviewPanel:
     Attributes
     ----------
     summary : DataFrame
-        One row per run (from :func:`vpkit.batch.analyze_table`).
+        One row per run (from :func:`vpkit.batch.analyze_many`).
     failed : tuple
         Runs that could not be read, with the reason.
     explorers : dict
@@ -78,17 +79,17 @@ class OverviewPanel:
 
     def refresh(self) -> None:
         """Reload the runs (with their sessions) and re-analyse them all."""
-        load = read_runs(self.source)
-        self.load = load
-        self.failed = load.failed
-        self.runs = dict(load.runs) or table_to_runs(load.table)
-        self.summary = analyze_table(load.table, **self.options)
+        self.result = analyze_many(self.source, **self.options)
+        self.failed = self.result.failed
+        self.runs = dict(self.result.runs)
+        self.summary = self.result.summary
+        analysed = self.summary[self.summary["status"].fillna("") == ""]
         buf = io.BytesIO()
-        overview_figure(self.summary).savefig(buf, format="png", dpi=110)
+        overview_figure(analysed).savefig(buf, format="png", dpi=110)
         self.w_figure.value = buf.getvalue()
-        msgs = [f"<span style='color:#a00'>not read: {html.escape(src)}: {html.escape(m)}"
-                "</span>" for src, m in load.failed]
-        msgs += [f"<i>{html.escape(n)}</i>" for n in load.notes]
+        msgs = [f"<span style='color:#a00'>not analysed: {html.escape(str(r['run_id']))}: "
+                f"{html.escape(str(r['status']))}</span>"
+                for _, r in self.summary[self.summary["status"].fillna("") != ""].iterrows()]
         self.w_messages.value = "<br>".join(msgs)
         self._render_table()
 
@@ -106,16 +107,18 @@ class OverviewPanel:
             cells = []
             for c in TABLE_COLUMNS:
                 v = r[c]
-                cells.append(f"<td>{v:.3g}</td>" if isinstance(v, float)
-                             else f"<td>{html.escape(str(v))}</td>")
+                text = (D.number(v) if isinstance(v, float) and c != "points used"
+                        else "" if isinstance(v, float) and v != v else str(v))
+                cells.append(f"<td>{html.escape(text)}</td>")
             title = html.escape(str(r["flag reasons"]), quote=True)
-            style = " style='background:#fff0e6'" if r["flags"] else ""
+            style = " style='background:#fff0e6'" if r["flags"] or r["status"] else ""
             rows.append(f"<tr title='{title}'{style}>" + "".join(cells) + "</tr>")
         head = "".join(f"<th>{html.escape(c)}</th>" for c in TABLE_COLUMNS)
         self.w_table.value = (f"<table style='border-collapse:collapse;font-size:0.85em'>"
                               f"<tr>{head}</tr>{''.join(rows)}</table>"
                               "<small>hover a row for the flag reasons</small>")
         current = self.w_runs.value
+        df = df[df["status"].fillna("") == ""]
         labels = [(f"{'⚑ ' if f else ''}{rid} ({liq})", rid) for rid, liq, f in
                   zip(df["run_id"], df["liquid"], df["flags"])]
         self.w_runs.options = labels
@@ -125,7 +128,7 @@ class OverviewPanel:
     def select(self, run_id: str) -> RunPanel:
         """Open (or return) the single-run explorer of ``run_id``."""
         if run_id not in self.explorers:
-            path = self.load.paths.get(run_id)
+            path = self.result.paths.get(run_id)
             self.explorers[run_id] = RunPanel(path if path is not None else self.runs[run_id],
                                               canvas="auto")
         panel = self.explorers[run_id]

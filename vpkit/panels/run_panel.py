@@ -22,7 +22,8 @@ from ..constants import P_STANDARD
 from ..errors import VpkitError
 from ..plots import COLUMN_WIDTHS
 from ..report import SAFETY_NOTE, write_outputs
-from ..run import Run, read_run
+from ..run import Run
+from ..runfile import read_run
 from ..session import (
     SessionError,
     SessionState,

@@ -1,0 +1,198 @@
+"""The checks a careful analyst makes of every run, with the number that triggered each.
+
+:func:`run_checks` evaluates every check on all runs of a
+:class:`~vpkit.engine.StackResult` at once and returns, per run, the
+:class:`Finding` objects that fired. The single-run warnings
+(``Analysis.warnings``) and the many-run flags (``flags`` and ``flag reasons``
+of the summary) are the same findings. Thresholds are
+:data:`vpkit.choices.DEFAULT_THRESHOLDS` (all common practice, no source).
+
+References
+----------
+.. [1] R. T. Birge, Phys. Rev. 40, 207-227 (1932): χ² against its distribution.
+.. [2] D. A. Belsley, E. Kuh, R. E. Welsch, "Regression Diagnostics", Wiley
+   (1980): influence of single points.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .constants import T_ZERO_C
+from .engine import SELF_CONSISTENT_TOL
+from .errors import (
+    ConvergenceWarning,
+    ExtrapolationWarning,
+    IllConditionedWarning,
+    ImpossiblePointWarning,
+    Notice,
+    ReferenceDeviationWarning,
+    ReferenceRangeWarning,
+    ScatterWarning,
+    SuspectPointWarning,
+    VpkitWarning,
+)
+from .fit import chi2_limits
+from .reduce import FLAG_TEXT
+from .reference import outside_range_text
+
+_IMPOSSIBLE = ("volume", "p_low", "p_high")
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One check that fired for one run.
+
+    Attributes
+    ----------
+    flag : str
+        Short name for tables ("few points", "off reference", ...).
+    category : type
+        The :class:`vpkit.VpkitWarning` subclass it belongs to.
+    message : str
+        What was found, with the number that triggered it.
+    """
+
+    flag: str
+    category: type[VpkitWarning]
+    message: str
+
+    def notice(self) -> Notice:
+        return Notice(self.message, self.category)
+
+
+def _t(T) -> str:
+    return f"{T - T_ZERO_C:.2f} degC"
+
+
+def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
+    """Every finding of every run of ``res`` (a StackResult)."""
+    R, N = res.stack.T.shape
+    out: list[list[Finding]] = [[] for _ in range(R)]
+    lim = res.choices.limits
+    f = res.fit
+    T = res.stack.T
+    mask = res.stack.mask
+    inc = res.include
+    ok = res.ok
+
+    def add(hits, flag, category, text):
+        for r in np.flatnonzero(np.asarray(hits, bool) & ok):
+            out[int(r)].append(Finding(flag, category, text(int(r))))
+
+    # the fit and the data
+    add(f.ill_conditioned, "ill-conditioned", IllConditionedWarning, lambda r: (
+        f"{f.model.label} is ill-conditioned for {int(f.n[r])} points over "
+        f"{_span(T[r], inc[r]):.0f} K ({f.curvature_text(r)}): the data do not fix the "
+        "curvature, so extrapolations (boiling points) are unsafe; prefer "
+        "Clausius–Clapeyron, or widen the range"))
+    with np.errstate(invalid="ignore"):
+        span = np.nanmax(np.where(inc, T, -np.inf), 1) - np.nanmin(np.where(inc, T, np.inf), 1)
+    add(f.n < lim["min_points"], "few points", IllConditionedWarning, lambda r: (
+        f"only {int(f.n[r])} points used (fewer than {lim['min_points']:g})"))
+    add(span < lim["min_range_K"], "narrow range", IllConditionedWarning, lambda r: (
+        f"temperature range of the points used is {span[r]:.1f} K (below "
+        f"{lim['min_range_K']:g} K): the slope is poorly fixed"))
+    rounded = np.round(np.where(mask, T, np.nan), 2)
+    with np.errstate(invalid="ignore"):
+        dup = (rounded[:, :, None] == rounded[:, None, :]) & np.tri(N, k=-1, dtype=bool).T[None]
+    for r, i, j in zip(*np.nonzero(dup & ok[:, None, None])):
+        if dup[r, :i, j].any():
+            continue  # only the first earlier twin is named
+        out[r].append(Finding("duplicate temperature", SuspectPointWarning, (
+            f"points {i} and {j} have the same bath temperature ({_t(T[r, j])}): fine for "
+            "repeated readings, but check for a copied row")))
+    # points: impossible or suspect (shown, never dropped silently)
+    pf = res.point_flags
+    any_flag = np.zeros((R, N), bool)
+    for k in FLAG_TEXT:
+        any_flag |= pf[k]
+    for r, i in zip(*np.nonzero(any_flag & ok[:, None])):
+        texts = [_flag_text(res, k, r, i) for k in FLAG_TEXT if pf[k][r, i]]
+        impossible = any(pf[k][r, i] for k in _IMPOSSIBLE)
+        state = "excluded" if not inc[r, i] else "still included"
+        flag = "impossible" if impossible else ("volume not growing" if pf["shrinks"][r, i]
+                                                else "above boiling point")
+        out[r].append(Finding(flag, ImpossiblePointWarning if impossible else
+                              SuspectPointWarning,
+                              f"point {i} ({_t(T[r, i])}), {state}: " + "; ".join(texts)))
+    with np.errstate(invalid="ignore"):
+        suspect = np.abs(res.robust_z) > lim["suspect_u"]
+    for r, i in zip(*np.nonzero(suspect & ok[:, None])):
+        out[r].append(Finding("suspect point", SuspectPointWarning, (
+            f"point {i} ({_t(T[r, i])}) lies {abs(res.robust_z[r, i]):.1f} of its own standard "
+            "uncertainties off a robust line through the other points: suspect (not excluded)")))
+    # reference and notes from the choices
+    cmp = res.comparison
+    n_out = cmp["outside"].sum(axis=1)
+    for r in np.flatnonzero(ok & (n_out > 0)):
+        out[r].append(Finding("outside reference range", ReferenceRangeWarning,
+                              outside_range_text(res.resolved.compare_curve[r], int(n_out[r]))))
+    for r in np.flatnonzero(ok):
+        for note in res.resolved.notices[r]:
+            out[r].append(Finding("", note.category, str(note)))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        dev_u = (res.enthalpy - cmp["enthalpy"]) / res.u_enthalpy
+        dev_pct = 100 * (res.enthalpy / cmp["enthalpy"] - 1)
+        gap = res.stack.scalar["T_boil"] - res.T_b_run
+        T_max = np.nanmax(np.where(inc, T, -np.inf), axis=1)
+        beyond = res.T_b_normal - T_max
+        shift = np.nanmax(np.abs(f.loo_enthalpy - res.enthalpy[:, None]), axis=1,
+                          initial=0.0, where=np.isfinite(f.loo_enthalpy))
+    add(np.abs(dev_u) > lim["max_deviation_u"], "off reference", ReferenceDeviationWarning,
+        lambda r: (f"ΔH_vap differs from the reference ({res.resolved.compare_curve[r].label}) "
+                   f"by {dev_u[r]:+.1f} u ({dev_pct[r]:+.1f} %), more than "
+                   f"{lim['max_deviation_u']:g} u"))
+    add(np.abs(gap) > lim["max_boiling_gap_K"], "boiling point gap", ReferenceDeviationWarning,
+        lambda r: (f"measured boiling point differs from the predicted one by {gap[r]:+.2f} K "
+                   f"(more than {lim['max_boiling_gap_K']:g} K)"))
+    add(beyond > np.maximum(lim["extrapolation_K"], span), "extrapolated T_b",
+        ExtrapolationWarning, lambda r: (
+            f"the normal boiling point ({_t(res.T_b_normal[r])}) lies {beyond[r]:.0f} K beyond "
+            "the highest point: an extrapolation"))
+    add(shift > lim["max_influence_u"] * res.u_enthalpy, "influential point",
+        SuspectPointWarning, lambda r: (
+            f"leaving point {int(np.nanargmax(np.abs(f.loo_enthalpy[r] - res.enthalpy[r])))} out "
+            f"moves ΔH_vap by {shift[r] / res.u_enthalpy[r]:.1f} u (more than "
+            f"{lim['max_influence_u']:g} u)"))
+    dof = np.asarray(f.dof)
+    chi_lim = chi2_limits(np.maximum(dof, 0), lim["scatter_percentile"])
+    add((dof > 0) & (f.chi2 > chi_lim), "scatter", ScatterWarning, lambda r: (
+        f"χ² = {f.chi2[r]:.1f} for {int(dof[r])} degrees of freedom is above its "
+        f"{100 * lim['scatter_percentile']:g}th percentile ({chi_lim[r]:.1f}): scatter larger "
+        "than the stated uncertainties"))
+    with np.errstate(invalid="ignore"):
+        not_sc = (res.self_consistent_rounds > 0) & ~(
+            res.self_consistent_error <= SELF_CONSISTENT_TOL)
+    add(not_sc, "not self-consistent", ConvergenceWarning, lambda r: (
+        "the self-consistent p_vap at the air reference did not converge: relative mismatch "
+        f"{res.self_consistent_error[r]:.1e} after {int(res.self_consistent_rounds[r])} rounds"))
+    return tuple(tuple(x) for x in out)
+
+
+def _span(T, inc) -> float:
+    t = T[inc]
+    return float(t.max() - t.min()) if t.size else 0.0
+
+
+def _flag_text(res, key: str, r: int, i: int) -> str:
+    """The point flag's text with the value that triggered it."""
+    text = FLAG_TEXT[key]
+    if key == "volume":
+        return text + f" (V = {res.V[r, i] * 1e6:.4g} mL)"
+    if key == "p_low":
+        return text + f" (p_vap = {res.p_vap[r, i]:.4g} Pa)"
+    if key == "p_high":
+        return text + (f" (p_vap = {res.p_vap[r, i] / 1e3:.4g} kPa, total "
+                       f"{res.P_total[r, i] / 1e3:.4g} kPa)")
+    if key == "above_boiling":
+        return text + f" ({_t(res.stack.T[r, i])} > {_t(res.stack.scalar['T_boil'][r])})"
+    return text
+
+
+def flags_of(findings) -> tuple[str, str]:
+    """(comma-separated flags, '; '-separated messages) of one run's findings."""
+    flags = list(dict.fromkeys(x.flag for x in findings if x.flag))
+    return ", ".join(flags), "; ".join(x.message for x in findings if x.flag)
