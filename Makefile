@@ -1,4 +1,5 @@
-# Two set-up commands: `make demo` and `make test`. Each creates .venv on first use.
+# Two set-up commands: `make demo` and `make test`. Each creates .venv on first use;
+# the demo needs only the runtime and notebook extras, the tests add their own.
 PYTHON ?= python3
 VENV ?= .venv
 PY := $(VENV)/bin/python
@@ -6,23 +7,30 @@ OUT ?= out/demo
 
 .PHONY: demo test lint bench clean
 
-$(VENV)/.installed: pyproject.toml
+$(VENV)/.created:
 	$(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install --quiet --upgrade pip
+	touch $@
+
+$(VENV)/.demo: $(VENV)/.created pyproject.toml
+	$(PY) -m pip install --quiet -e '.[notebook]'
+	touch $@
+
+$(VENV)/.test: $(VENV)/.created pyproject.toml
 	$(PY) -m pip install --quiet -e '.[test,notebook,reference,browser]'
 	touch $@
 
-demo: $(VENV)/.installed
+demo: $(VENV)/.demo
 	$(PY) -m vpkit analyze data/demo/*.csv --out $(OUT)
 	$(PY) -m vpkit report data/demo --out $(OUT)/section-report
 	@echo "Demo outputs: per-run figures, tables and summaries in $(OUT)/;"
 	@echo "the many-run report in $(OUT)/section-report/report.html (and report.md)"
 
-test: $(VENV)/.installed
+test: $(VENV)/.test
 	$(PY) -m ruff check vpkit tests benchmarks data
 	$(PY) -m pytest -q
 
-bench: $(VENV)/.installed
+bench: $(VENV)/.test
 	$(PY) benchmarks/bench_core.py
 	$(PY) benchmarks/bench_panel.py --browser
 	$(PY) benchmarks/bench_batch.py

@@ -20,6 +20,8 @@ import urllib.request
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
+#: What a user's own work leaves beside the demo runs; never copied into a test.
+CLEAN = shutil.ignore_patterns("*.vpkit-session.json", "*.refused-*", "*-report", "__pycache__")
 CHROMIUM = "/usr/bin/chromium"
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                  "--disable-background-networking", "--disable-component-update",
@@ -57,7 +59,7 @@ class VoilaServer:
     def __enter__(self) -> VoilaServer:
         w = self.workdir
         w.mkdir(parents=True, exist_ok=True)
-        shutil.copytree(ROOT / "data", w / "data", dirs_exist_ok=True)
+        shutil.copytree(ROOT / "data", w / "data", dirs_exist_ok=True, ignore=CLEAN)
         (w / "notebooks").mkdir(exist_ok=True)
         shutil.copy(ROOT / "notebooks" / self.notebook, w / "notebooks" / self.notebook)
         env = dict(os.environ)

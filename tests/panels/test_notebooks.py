@@ -11,12 +11,14 @@ nbformat = pytest.importorskip("nbformat")
 pytest.importorskip("ipykernel")
 
 ROOT = Path(__file__).resolve().parents[2]
+#: What a user's own work leaves beside the demo runs; never copied into a test.
+CLEAN = shutil.ignore_patterns("*.vpkit-session.json", "*.refused-*", "*-report", "__pycache__")
 NOTEBOOKS = sorted((ROOT / "notebooks").glob("*.ipynb"))
 
 
 @pytest.mark.parametrize("path", NOTEBOOKS, ids=lambda p: p.name)
 def test_notebook_runs(path, tmp_path, monkeypatch):
-    shutil.copytree(ROOT / "data", tmp_path / "data")
+    shutil.copytree(ROOT / "data", tmp_path / "data", ignore=CLEAN)
     (tmp_path / "notebooks").mkdir()
     target = tmp_path / "notebooks" / path.name
     shutil.copy(path, target)
