@@ -26,7 +26,7 @@ import uncertainties
 
 from .choices import Choices, setup_rows
 from .constants import P_STANDARD
-from .engine import StackResult, analyze_stack, solve_fixed_point
+from .engine import StackResult, analyze_stack
 from .errors import BadValueError, FitError, InputError, Notice
 from .fit import FitResult, solve_stack
 from .propagate import InputLayout, ReferenceAtAir, evaluate
@@ -34,6 +34,7 @@ from .reduce import AIR_METHODS, FLAG_TEXT, VAPOR_AT_AIR_REFERENCE
 from .reference import ReferenceComparison, comparison_of
 from .run import Run
 from .runfile import read_run
+from .selfconsistent import solve_fixed_point
 from .stack import RunSI, stack_runs
 
 

@@ -21,7 +21,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from .constants import T_ZERO_C
-from .engine import SELF_CONSISTENT_TOL
 from .errors import (
     ConvergenceWarning,
     ExtrapolationWarning,
@@ -37,6 +36,7 @@ from .errors import (
 from .fit import chi2_limits
 from .reduce import FLAG_TEXT
 from .reference import outside_range_text
+from .selfconsistent import SELF_CONSISTENT_TOL
 
 _IMPOSSIBLE = ("volume", "p_low", "p_high")
 

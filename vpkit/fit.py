@@ -31,37 +31,37 @@ References
 from __future__ import annotations
 
 import functools
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
-import uncertainties
 from scipy import stats
 
 from . import lsq
 from .constants import P_STANDARD
 from .errors import FitError
+from .fitresult import TROUTON_BAND, TROUTON_HBOND_BAND, FitResult, trouton_verdict  # noqa: F401
+from .lsq import quad
 from .models import MODELS, Model, get_model  # noqa: F401  (MODELS re-exported)
+from .solve import (  # noqa: F401  (residual_covariance, solve_stack re-exported)
+    _levenberg_marquardt,
+    _solve_linear,
+    _solve_nonlinear,
+    _status,
+    _whitened,
+    psum_rows,
+    residual_covariance,
+    solve_stack,
+)
 
 WEIGHTINGS = ("ordinary", "weighted", "gls")
 SPACES = ("ln_p", "p")
 
-#: Trouton's rule band for liquids without hydrogen bonding [J/(mol K)];
-#: from memory (textbook value 85-88 J/(mol K), about 10.5 R).
-TROUTON_BAND = (85.0, 88.0)
-#: Typical for hydrogen-bonded liquids (water, alcohols) [J/(mol K)]; from memory.
-TROUTON_HBOND_BAND = (100.0, 125.0)
 
 
 def _ro(a):
     a = np.asarray(a)
     a.setflags(write=False)
     return a
-
-
-def quad(g: np.ndarray, cov: np.ndarray) -> np.ndarray:
-    """Standard uncertainty sqrt(g^T C g) of a linear function with gradient g, batched."""
-    return np.sqrt(np.einsum("...i,...ij,...j->...", g, cov, g))
 
 
 @dataclass(frozen=True)
@@ -154,21 +154,6 @@ class StackFit:
         return m.describe_curvature(float(value), float(sd))
 
 
-def psum_rows(X, th):
-    """X θ for stacks X (B, N, p), θ (B, p), summed over p in order."""
-    return lsq.psum(X * th[:, None, :], axis=-1)
-
-
-def residual_covariance(cov_y, cov_yT, cov_T, dfdT):
-    """Covariance of y - f(T) from the covariances of y and T (effective variance [2])."""
-    out = np.array(cov_y, float)
-    if cov_T is not None:
-        d = dfdT
-        out = (out - cov_yT * d[..., None, :] - d[..., :, None] * np.swapaxes(cov_yT, -1, -2)
-               + d[..., :, None] * cov_T * d[..., None, :])
-    return 0.5 * (out + np.swapaxes(out, -1, -2))
-
-
 @functools.lru_cache(maxsize=256)
 def _chi2_limit(dof: int, level: float = 0.95) -> float:
     """Percentile ``level`` of χ² with ``dof`` degrees of freedom."""
@@ -178,154 +163,6 @@ def _chi2_limit(dof: int, level: float = 0.95) -> float:
 def chi2_limits(dof: np.ndarray, level: float = 0.95) -> np.ndarray:
     return np.array([_chi2_limit(int(d), level) if d > 0 else np.inf for d in np.ravel(dof)]
                     ).reshape(np.shape(dof))
-
-
-def _design(m: Model, T, y, mask, th, space):
-    """Model values, residuals and Jacobian of every point (masked rows zero)."""
-    f = m.f(T, th)
-    J = m.jac(T, th)
-    if space == "ln_p":
-        r = y - f
-    else:
-        e = np.exp(f)
-        r = np.exp(y) - e
-        J = J * e[..., None]
-    return np.where(mask, r, 0.0), np.where(mask[..., None], J, 0.0), f
-
-
-def _whitened(m, T, y, mask, L, th, space):
-    r, J, _ = _design(m, T, y, mask, th, space)
-    Z = lsq.forward_solve(L, np.concatenate([J, r[..., None]], axis=-1))
-    return Z[..., -1], Z[..., :-1]
-
-
-def _solve_linear(m, T, y, mask, L, keep: dict | None = None, rows=None):
-    """Linear least squares in the whitened frame; ``keep`` stores its factorisation."""
-    X = np.where(mask[..., None], m.basis(T), 0.0)
-    Z = lsq.forward_solve(L, np.concatenate([X, np.where(mask, y, 0.0)[..., None]], -1))
-    fac = lsq.lstsq(Z[..., :-1], Z[..., -1])
-    if keep is not None:
-        for key, value in (("Xw", Z[..., :-1]), ("yw", Z[..., -1]), ("Q", fac["Q"]),
-                           ("R", fac["R"]), ("rank_ok", fac["rank_ok"])):
-            keep[key][rows] = value
-    return fac["theta"]
-
-
-def _levenberg_marquardt(m, T, y, mask, L, th0, space, max_iter=400):
-    """Batched Levenberg-Marquardt (lsq ref. [4]); returns θ and a converged flag."""
-    th = np.array(th0, float)
-    B, p = th.shape
-    rw, Jw = _whitened(m, T, y, mask, L, th, space)
-    cost = lsq.psum(rw * rw)
-    D = np.maximum(np.sqrt(lsq.psum(Jw * Jw, axis=-2)), 1e-300)
-    lam = np.full(B, 1e-3)
-    done = ~np.isfinite(cost)
-    conv = np.zeros(B, bool)
-    for _ in range(max_iter):
-        a = np.flatnonzero(~done)
-        if a.size == 0:
-            break
-        with np.errstate(all="ignore"):
-            step, pred = lsq.damped_step(Jw[a], rw[a], lam[a], D[a])
-            new = th[a] + step
-            rn, Jn = _whitened(m, T[a], y[a], mask[a], L[a], new, space)
-            cn = lsq.psum(rn * rn)
-            rho = (cost[a] - cn) / pred
-        acc = np.isfinite(cn) & np.all(np.isfinite(new), axis=1) & (rho > 1e-4)
-        old = cost[a]
-        i = a[acc]
-        th[i], rw[i], Jw[i], cost[i] = new[acc], rn[acc], Jn[acc], cn[acc]
-        D[i] = np.maximum(D[i], np.sqrt(lsq.psum(Jn[acc] * Jn[acc], axis=-2)))
-        grow = np.where(rho > 0.75, 1 / 3, np.where(rho < 0.25, 2.0, 1.0))
-        lam[a] = np.where(acc, lam[a] * grow, lam[a] * 4.0)
-        with np.errstate(all="ignore"):
-            xs = np.linalg.norm(D[a] * step, axis=1) <= 1e-14 * (
-                np.linalg.norm(D[a] * th[a], axis=1) + 1e-14)
-            fs = acc & (old - cn <= 1e-15 * old) & (pred <= 1e-15 * old)
-            g = np.abs(lsq.psum(Jw[a] * rw[a][..., None], axis=-2)) / (
-                D[a] * np.sqrt(np.maximum(cost[a], 1e-300))[:, None])
-            gs = np.nanmax(g, axis=1) <= 1e-13
-        stop = xs | fs | gs | (cost[a] <= 1e-28) | (lam[a] > 1e30)
-        conv[a] |= (xs | fs | gs | (cost[a] <= 1e-28)) & (lam[a] <= 1e30)
-        done[a] |= stop
-    return th, conv & np.all(np.isfinite(th), axis=1)
-
-
-def _solve_nonlinear(m, T, y, mask, L, th0, space, starts):
-    """LM from each starting point; keep, per data set, the lowest converged cost."""
-    best, best_cost, ok = np.array(th0, float), np.full(len(T), np.inf), np.zeros(len(T), bool)
-    for start in starts:
-        th, conv = _levenberg_marquardt(m, T, y, mask, L, start, space)
-        rw, _ = _whitened(m, T, y, mask, L, th, space)
-        cost = np.where(conv, lsq.psum(rw * rw), np.inf)
-        better = cost < best_cost
-        best[better], best_cost[better] = th[better], cost[better]
-        ok |= conv
-    return best, ok
-
-
-def _status(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> list[str]:
-    """Why each data set cannot be fitted ("" where it can)."""
-    p = m.n_params
-    with np.errstate(invalid="ignore"):
-        bad_y = np.any(mask & ~np.isfinite(y), axis=1)
-    out = [""] * len(n)
-    for r in np.flatnonzero((n < p) | bad_y):
-        if n[r] == 0:
-            out[r] = f"every point is excluded: include at least {p} points to fit {m.label}"
-        elif n[r] < p:
-            out[r] = f"{m.label} needs at least {p} included points, got {n[r]}"
-        else:
-            out[r] = ("an included point has no finite ln p (vapor pressure <= 0?); exclude it "
-                      "or correct it")
-    return out
-
-
-def solve_stack(model: str | Model, T, y, mask, chol, *, space: str = "ln_p", start=None,
-                search: bool = True) -> tuple[np.ndarray, np.ndarray]:
-    """The parameters of R data sets for a fixed whitening: the solve inside every fit.
-
-    Parameters
-    ----------
-    model : str or Model
-    T, y, mask : array_like (R, N)
-    chol : array_like (N, N) or (R, N, N)
-        Lower Cholesky factor of the residual covariance (shared, or per set).
-    space, start, search
-        As for :func:`fit_stack`.
-
-    Returns
-    -------
-    theta : ndarray (R, p)
-        NaN where a set has too few points, a non-finite point, or no convergence.
-    ok : ndarray of bool (R,)
-    """
-    m = model if isinstance(model, Model) else get_model(model)
-    T = np.atleast_2d(np.asarray(T, float))
-    y = np.atleast_2d(np.asarray(y, float))
-    mask = np.broadcast_to(np.asarray(mask, bool), T.shape) & np.isfinite(T)
-    ok = np.array([s == "" for s in _status(m, mask.sum(axis=1), y, mask)])
-    Tsafe = np.where(mask, T, 300.0)
-    ysafe = np.where(mask & np.isfinite(y), y, 0.0)
-    L = np.asarray(chol, float)
-    th = np.full((len(T), m.n_params), np.nan)
-    g = np.flatnonzero(ok)
-    if not g.size:
-        return th, ok
-    Lg = L if L.ndim == 2 else L[g]
-    if m.linear and space == "ln_p":
-        th[g] = _solve_linear(m, Tsafe[g], ysafe[g], mask[g], Lg)
-        ok &= np.all(np.isfinite(th), axis=1)
-        return th, ok
-    given = None if start is None else np.broadcast_to(np.asarray(start, float),
-                                                       (len(T), m.n_params))[g]
-    starts = [given] if given is not None and not search else (
-        ([] if given is None else [given]) + [m.start(Tsafe[g], ysafe[g], mask[g])])
-    Lb = np.broadcast_to(Lg, (len(g),) + Lg.shape[-2:])
-    th[g], conv = _solve_nonlinear(m, Tsafe[g], ysafe[g], mask[g], Lb, starts[0], space, starts)
-    ok[g] &= conv
-    th[~ok] = np.nan
-    return th, ok
 
 
 def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", cov_y=None,
@@ -551,155 +388,6 @@ def _leave_one_out(m, weighting, space, T, y, mask, L, th, fac, rw, T_m, use):
         good = conv & okL
         out[sel[good], k] = m.enthalpy(T_m[sel[good]], thk[good])
     return out
-
-
-# ---------------------------------------------------------------------------
-# one data set
-# ---------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class FitResult:
-    """The fit of one data set: a view of one row of a :class:`StackFit` (frozen).
-
-    Attributes mirror :class:`StackFit` for that row (arrays of length ``n``,
-    the row's real points; scalars for the rest); ``warnings`` holds the
-    conditioning notice, if any.
-    """
-
-    stack: StackFit = field(repr=False)
-    index: int = 0
-    n: int | None = None
-
-    _POINTS = ("T", "y", "include", "residuals", "normalized_residuals", "leverage",
-               "loo_enthalpy")
-
-    def _row(self, name):
-        v = getattr(self.stack, name)[self.index]
-        if self.n is not None and name in self._POINTS:
-            return v[:self.n]
-        if self.n is not None and name == "residual_cov":
-            return v[:self.n, :self.n]
-        return v
-
-    model = property(lambda self: self.stack.model)
-    weighting = property(lambda self: self.stack.weighting)
-    space = property(lambda self: self.stack.space)
-    params = property(lambda self: self._row("params"))
-    cov = property(lambda self: self._row("cov"))
-    T = property(lambda self: self._row("T"))
-    y = property(lambda self: self._row("y"))
-    include = property(lambda self: self._row("include"))
-    residuals = property(lambda self: self._row("residuals"))
-    normalized_residuals = property(lambda self: self._row("normalized_residuals"))
-    leverage = property(lambda self: self._row("leverage"))
-    loo_enthalpy = property(lambda self: self._row("loo_enthalpy"))
-    chi2 = property(lambda self: float(self._row("chi2")))
-    dof = property(lambda self: int(self._row("dof")))
-    chi2_reduced = property(lambda self: float(self._row("chi2_reduced")))
-    scaled = property(lambda self: bool(self._row("scaled")))
-    T_m = property(lambda self: float(self._row("T_m")))
-
-    @property
-    def residual_cov(self):
-        return None if self.stack.residual_cov is None else self._row("residual_cov")
-
-    @property
-    def warnings(self) -> tuple[str, ...]:
-        if not self.stack.ill_conditioned[self.index]:
-            return ()
-        m = self.model
-        T = self.T[self.include]
-        return (f"{m.label} is ill-conditioned for {len(T)} points over "
-                f"{T.max() - T.min():.0f} K ({self.stack.curvature_text(self.index)}): the "
-                "data do not fix the curvature, so extrapolations (boiling points) are "
-                "unsafe; prefer Clausius–Clapeyron, or widen the range",)
-
-    # -- values with uncertainty (correlated with the parameters) -----------------
-    @functools.cached_property
-    def _uparams(self):
-        return tuple(uncertainties.correlated_values(list(self.params), self.cov))
-
-    def uparams(self):
-        """Parameters as correlated ``uncertainties`` numbers (the same objects each call)."""
-        return self._uparams
-
-    def _linear(self, value: float, grad: np.ndarray):
-        """value + grad·(θ - θ̂) as an uncertain number correlated with θ."""
-        out = float(value)
-        for gk, u, t in zip(grad, self.uparams(), self.params):
-            out = out + float(gk) * (u - float(t))
-        return out
-
-    def enthalpy_at(self, T: float):
-        """ΔH_vap(T) with uncertainty [J/mol]."""
-        g = self.model.enthalpy_grad(float(T), self.params)
-        return self._linear(float(self.model.enthalpy(float(T), self.params)), g)
-
-    @property
-    def enthalpy(self):
-        """ΔH_vap at T_m with uncertainty [J/mol]."""
-        return self.enthalpy_at(self.T_m)
-
-    def ln_p(self, T):
-        return self.model.f(np.asarray(T, float), self.params)
-
-    def p(self, T):
-        return np.exp(self.ln_p(T))
-
-    def ln_p_band(self, T, level: float = 0.95):
-        """Confidence band of the fitted ln p at T: (lower, upper)."""
-        T = np.asarray(T, float)
-        sd = quad(self.model.jac(T, self.params), self.cov)
-        k = stats.norm.ppf(0.5 + level / 2)
-        f = self.ln_p(T)
-        return f - k * sd, f + k * sd
-
-    def boiling_point(self, pressure=P_STANDARD):
-        """Temperature [K] where the fitted curve reaches ``pressure`` [Pa].
-
-        ``pressure`` may be an ``uncertainties`` number; its uncertainty is
-        then included. Returns an uncertain number correlated with the
-        parameters.
-        """
-        Pn = float(getattr(pressure, "nominal_value", pressure))
-        if not (math.isfinite(Pn) and Pn > 0):
-            raise FitError(f"pressure must be a positive number of Pa, got {Pn}")
-        Tb = float(self.model.solve_T(math.log(Pn), self.params, self.T_m))
-        if not math.isfinite(Tb):
-            raise FitError(f"the fitted curve never reaches {Pn:g} Pa near the data")
-        dfdT = float(self.model.df_dT(Tb, self.params))
-        out = self._linear(Tb, -self.model.jac(Tb, self.params) / dfdT)
-        if hasattr(pressure, "std_dev"):
-            out = out + (pressure - Pn) / (Pn * dfdT)
-        return out
-
-    def entropy_at_boiling(self, pressure=P_STANDARD):
-        """ΔS_vap = ΔH_vap(T_b)/T_b at the boiling point for ``pressure`` [J/(mol K)]."""
-        Tb = self.boiling_point(pressure)
-        m, th = self.model, self.params
-        t = Tb.nominal_value
-        dH = self._linear(float(m.enthalpy(t, th)), m.enthalpy_grad(t, th))
-        dH = dH + float(m.enthalpy_dT(t, th)) * (Tb - t)
-        return dH / Tb
-
-    def trouton_verdict(self) -> str:
-        """Plain-language comparison of ΔS_vap at the normal boiling point with Trouton's rule."""
-        s = self.entropy_at_boiling()
-        return trouton_verdict(s.nominal_value, s.std_dev)
-
-
-def trouton_verdict(v: float, u: float) -> str:
-    """Compare ΔS_vap = v ± u [J/(mol K)] with Trouton's rule (bands above, from memory)."""
-    lo, hi = TROUTON_BAND
-    if lo - 2 * u <= v <= hi + 2 * u:
-        return f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): within Trouton's rule ({lo:g}–{hi:g})"
-    hlo, hhi = TROUTON_HBOND_BAND
-    if v > hi and hlo - 2 * u <= v <= hhi + 2 * u:
-        return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): above Trouton's rule, as for "
-                f"hydrogen-bonded liquids ({hlo:g}–{hhi:g})")
-    return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): outside Trouton's rule ({lo:g}–{hi:g}) "
-            f"and the hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")
 
 
 def fit_points(T, y, *, model: str = "clausius_clapeyron", weighting: str = "gls",

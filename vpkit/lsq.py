@@ -58,6 +58,11 @@ def pmatmul(A: np.ndarray, B: np.ndarray) -> np.ndarray:
     return acc
 
 
+def quad(g: np.ndarray, cov: np.ndarray) -> np.ndarray:
+    """Standard uncertainty sqrt(g^T C g) of a linear function with gradient g, batched."""
+    return np.sqrt(np.einsum("...i,...ij,...j->...", g, cov, g))
+
+
 def masked_cov(C: np.ndarray, mask: np.ndarray) -> np.ndarray:
     """C with the rows and columns of points not in ``mask`` replaced by identity."""
     pair = mask[..., :, None] & mask[..., None, :]

@@ -26,33 +26,12 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import BadValueError, ImpossibleDataError, InputError, RunFileError, UnitError
-from .run import DEFAULT_UNCERTAINTY, FIELDS, Run
-from .units import from_si, normalize_unit, to_si
+from .errors import InputError, UnitError
+from .run import FIELDS, Run
+from .units import to_si
+from .validate import QUANTITY, check, uncertainties
 
-#: Per-run quantities of the stack and the run-file quantity each comes from.
-QUANTITY: dict[str, str] = {
-    "P_bar": "barometric_pressure", "T_room": "room_temperature",
-    "room_reading": "room_reading", "mass_before": "mass_before_air",
-    "mass_after": "mass_after_air", "density": "liquid_density",
-    "V_injected": "injected_air_volume", "scale_offset": "scale_offset",
-    "depth": "bubble_depth", "T_boil": "boiling_point",
-}
 SCALARS = tuple(QUANTITY)
-
-#: Uncertainty keys of the stack, and the default (SI) that fills each gap.
-_DEFAULTS = {
-    "T": DEFAULT_UNCERTAINTY["temperature_uncertainty"],
-    "reading": DEFAULT_UNCERTAINTY["reading_uncertainty"],
-    "P_bar": DEFAULT_UNCERTAINTY["barometric_pressure"],
-    "T_room": DEFAULT_UNCERTAINTY["room_temperature"],
-    "mass_before": DEFAULT_UNCERTAINTY["mass_before_air"],
-    "mass_after": DEFAULT_UNCERTAINTY["mass_after_air"],
-    "V_injected": DEFAULT_UNCERTAINTY["injected_air_volume"],
-    "scale_offset": DEFAULT_UNCERTAINTY["scale_offset"],
-    "depth": DEFAULT_UNCERTAINTY["bubble_depth"],
-    "T_boil": DEFAULT_UNCERTAINTY["boiling_point"],
-}
 U_KEYS = ("T", "reading", "pressure", "P_bar", "T_room", "room_reading", "mass_before",
           "mass_after", "V_injected", "scale_offset", "depth", "T_boil", "density_relative")
 
@@ -246,9 +225,9 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
         _frozen(pressure), _frozen(mask), _frozen(pad(c.include, False, bool)),
         _frozen(pad(c.reason, "", object)), _frozen(rows),
         {k: _frozen(np.asarray(c.scalar[k], float)) for k in SCALARS},
-        _frozen(np.asarray(c.direction, int)), _frozen_map(_uncertainties(c)),
+        _frozen(np.asarray(c.direction, int)), _frozen_map(uncertainties(c)),
         tuple(c.places))
-    failures = _check(stack, c)
+    failures = check(stack, c)
     if failures:
         bad = np.zeros(R, bool)
         bad[[r for r, _ in failures]] = True
@@ -258,154 +237,6 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
 
 def _frozen_map(d: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
     return {k: _frozen(np.asarray(v, float)) for k, v in d.items()}
-
-
-def _uncertainties(c: Columns) -> dict[str, np.ndarray]:
-    """The one default rule: a stated uncertainty wins, else the documented default.
-
-    Per-point pressures default to the barometer's stated uncertainty (they are
-    read on it), the room reading to the graduation reading's, and a density
-    given without an uncertainty (or taken from the reference) to 0.1 %.
-    """
-    g = c.given_u
-    u = {k: np.where(np.isnan(g[k]), d, g[k]) for k, d in _DEFAULTS.items()}
-    u["pressure"] = np.where(np.isnan(g["pressure"]),
-                             np.where(np.isnan(g["P_bar"]), DEFAULT_UNCERTAINTY["pressure"],
-                                      g["P_bar"]), g["pressure"])
-    u["room_reading"] = np.where(np.isnan(g["room_reading"]), u["reading"], g["room_reading"])
-    rho = c.scalar["density"]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        rel = g["density"] / rho
-    rel = np.where(np.isfinite(g.get("density_relative", np.nan)),
-                   g.get("density_relative", np.nan), rel)
-    u["density_relative"] = np.where(np.isfinite(rel),
-                                     rel, DEFAULT_UNCERTAINTY["liquid_density_relative"])
-    return u
-
-
-def _check(s: RunStack, c: Columns) -> list[tuple[int, InputError]]:
-    """Physical checks of every run at once; the first failed check of each run."""
-    out: dict[int, InputError] = {}
-
-    def fail(bad, make):
-        for r in np.flatnonzero(bad):
-            if int(r) not in out:
-                out[int(r)] = make(int(r))
-
-    def point_rule(cond, column, kind, text, hint, unit_of):
-        bad = s.mask & cond
-        for r in np.flatnonzero(bad.any(axis=1)):
-            if int(r) in out:
-                continue
-            i = int(np.argmax(bad[r]))
-            value = getattr(s, {"bath_temperature": "T", "reading": "reading",
-                                "pressure": "pressure"}[column])[r, i]
-            shown = f"{from_si(value, unit_of[r], kind):g} {unit_of[r]}" if unit_of[r] \
-                else f"{value:g}"
-            out[int(r)] = ImpossibleDataError(text.format(shown), **s.place(r, column, i),
-                                              hint=hint)
-
-    with np.errstate(invalid="ignore"):
-        for column, arr in (("bath_temperature", s.T), ("reading", s.reading)):
-            nonfinite = s.mask & ~np.isfinite(arr)
-            fail(nonfinite.any(axis=1), lambda r, col=column, a=nonfinite: BadValueError(
-                f"missing or non-finite {col}", **s.place(r, col, int(np.argmax(a[r]))),
-                hint="enter the measured value, or delete the row"))
-        own = ~np.isnan(s.pressure)
-        inf_p = own & ~np.isfinite(s.pressure)
-        fail(inf_p.any(axis=1), lambda r: BadValueError(
-            "pressure is not a finite number", **s.place(r, "pressure",
-                                                         int(np.argmax(inf_p[r]))),
-            hint="enter the absolute pressure, or leave the cell empty"))
-        point_rule(s.T <= 0, "bath_temperature", "temperature",
-                   "bath temperature {} is at or below absolute zero",
-                   "check the unit in the column header", c.T_unit)
-        point_rule(s.reading < 0, "reading", "volume", "graduation reading {} is negative",
-                   "readings count up from the zero mark; check the sign",
-                   c.reading_unit or [""] * s.R)
-        point_rule(own & (s.pressure <= 0), "pressure", "pressure", "pressure {} is not positive",
-                   "enter the absolute pressure", c.pressure_unit or [""] * s.R)
-    _check_temperature_unit(s, c, out)
-    sc = s.scalar
-    for key, required in (("P_bar", True), ("T_room", True)):
-        name = QUANTITY[key]
-        fail(np.isnan(sc[key]) if required else np.zeros(s.R, bool),
-             lambda r, n=name: RunFileError(f"required entry {n!r} is missing",
-                                            **s.place(r, n),
-                                            hint=f"give {n} with its unit"))
-    for key in SCALARS:
-        name = QUANTITY[key]
-        fail(np.isinf(sc[key]), lambda r, n=name: BadValueError(
-            f"{n} is not a finite number", **s.place(r, n), hint="enter the measured value"))
-    with np.errstate(invalid="ignore"):
-        fail(sc["P_bar"] <= 0, lambda r: ImpossibleDataError(
-            "barometric_pressure: must be positive", **s.place(r, "barometric_pressure"),
-            hint="enter the absolute barometric pressure"))
-        fail(sc["T_room"] <= 0, lambda r: ImpossibleDataError(
-            "room_temperature: is at or below absolute zero", **s.place(r, "room_temperature"),
-            hint="check its unit"))
-        for key in ("mass_before", "mass_after", "V_injected"):
-            name = QUANTITY[key]
-            fail(sc[key] <= 0, lambda r, n=name: ImpossibleDataError(
-                f"{n}: must be positive", **s.place(r, n), hint="enter the measured value"))
-        one = np.isnan(sc["mass_before"]) != np.isnan(sc["mass_after"])
-        fail(one, lambda r: ImpossibleDataError(
-            "both masses are needed for the weighing",
-            **s.place(r, "mass_before_air" if np.isnan(sc["mass_before"][r])
-                      else "mass_after_air"), hint="enter both masses, or neither"))
-        fail(sc["mass_after"] >= sc["mass_before"], lambda r: ImpossibleDataError(
-            "mass_after_air: is not lower than the mass before the air was added; the air "
-            "displaces liquid, so the mass must drop", **s.place(r, "mass_after_air"),
-            hint="check that the two masses are not swapped"))
-        fail(sc["density"] <= 0, lambda r: ImpossibleDataError(
-            "liquid_density: must be positive", **s.place(r, "liquid_density"),
-            hint="enter the density or 'reference'"))
-    fail(s.direction == 0, lambda r: BadValueError(
-        "graduated_from: not 'closed end' or 'open end'", **s.place(r, "graduated_from"),
-        hint="write 'closed end' when the zero mark is near the closed end"))
-    no_scale = np.isnan(sc["scale_offset"]) & (np.isnan(sc["room_reading"])
-                                               | np.isnan(sc["mass_before"]))
-    fail(no_scale, lambda r: RunFileError(
-        "the scale offset can be neither calibrated nor read: give room_reading with "
-        "mass_before_air and mass_after_air, or scale_offset", **s.place(r, "scale_offset"),
-        hint="add the weighing rows, or a measured scale_offset"))
-    return sorted(out.items())
-
-
-def _check_temperature_unit(s: RunStack, c: Columns, out: dict) -> None:
-    """Catch Celsius values labelled as kelvin and the reverse (plausibility).
-
-    Rule (common practice, no source): a liquid bath runs between about -20
-    and 200 degC, so bath values all below 150 labelled K, or all above 200
-    labelled degC, are the other unit.
-    """
-    units = np.array([normalize_unit(u) for u in c.T_unit], dtype=object)
-    for unit, limit in (("K", 150.0), ("degC", 200.0)):
-        rows = np.flatnonzero((units == unit) & s.mask.any(axis=1))
-        if not rows.size:
-            continue
-        raw = np.where(s.mask[rows], s.T[rows] - (273.15 if unit == "degC" else 0.0), np.nan)
-        with np.errstate(invalid="ignore"):
-            if unit == "K":
-                bad = np.max(np.where(np.isnan(raw), -np.inf, raw), axis=1) < limit
-            else:
-                bad = np.min(np.where(np.isnan(raw), np.inf, raw), axis=1) > limit
-        for k in np.flatnonzero(bad):
-            r = int(rows[k])
-            if r in out:
-                continue
-            if unit == "K":
-                i = int(np.nanargmax(raw[k]))
-                out[r] = ImpossibleDataError(
-                    f"bath temperatures up to {raw[k, i]:g} K are far below any liquid bath",
-                    **s.place(r, "bath_temperature", i),
-                    hint="these look like degC values: write 'bath_temperature [degC]'")
-            else:
-                i = int(np.nanargmin(raw[k]))
-                out[r] = ImpossibleDataError(
-                    f"bath temperatures from {raw[k, i]:g} degC are above any liquid bath",
-                    **s.place(r, "bath_temperature", i),
-                    hint="these look like kelvin values: write 'bath_temperature [K]'")
 
 
 # ---------------------------------------------------------------------------

@@ -1,0 +1,180 @@
+"""The fit of one data set: values with uncertainties a user can carry on with.
+
+:class:`FitResult` is a read-only view of one row of a
+:class:`vpkit.fit.StackFit`; its ΔH_vap, boiling points and ΔS_vap are
+``uncertainties`` numbers correlated with the fitted parameters, built from the
+same values and gradients as the many-run table, so both agree exactly.
+
+References
+----------
+.. [1] F. Trouton, Philos. Mag. 18, 54-57 (1884): Trouton's rule.
+.. [2] JCGM 100:2008 (GUM), section 5.2: linear propagation with correlations.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
+
+import numpy as np
+import uncertainties
+from scipy import stats
+
+from .constants import P_STANDARD
+from .errors import FitError
+from .lsq import quad
+
+if TYPE_CHECKING:
+    from .fit import StackFit
+
+#: Trouton's rule band for liquids without hydrogen bonding [J/(mol K)];
+#: from memory (textbook value 85-88 J/(mol K), about 10.5 R).
+TROUTON_BAND = (85.0, 88.0)
+#: Typical for hydrogen-bonded liquids (water, alcohols) [J/(mol K)]; from memory.
+TROUTON_HBOND_BAND = (100.0, 125.0)
+
+
+@dataclass(frozen=True)
+class FitResult:
+    """The fit of one data set: a view of one row of a :class:`StackFit` (frozen).
+
+    Attributes mirror :class:`StackFit` for that row (arrays of length ``n``,
+    the row's real points; scalars for the rest); ``warnings`` holds the
+    conditioning notice, if any.
+    """
+
+    stack: StackFit = field(repr=False)
+    index: int = 0
+    n: int | None = None
+
+    _POINTS = ("T", "y", "include", "residuals", "normalized_residuals", "leverage",
+               "loo_enthalpy")
+
+    def _row(self, name):
+        v = getattr(self.stack, name)[self.index]
+        if self.n is not None and name in self._POINTS:
+            return v[:self.n]
+        if self.n is not None and name == "residual_cov":
+            return v[:self.n, :self.n]
+        return v
+
+    model = property(lambda self: self.stack.model)
+    weighting = property(lambda self: self.stack.weighting)
+    space = property(lambda self: self.stack.space)
+    params = property(lambda self: self._row("params"))
+    cov = property(lambda self: self._row("cov"))
+    T = property(lambda self: self._row("T"))
+    y = property(lambda self: self._row("y"))
+    include = property(lambda self: self._row("include"))
+    residuals = property(lambda self: self._row("residuals"))
+    normalized_residuals = property(lambda self: self._row("normalized_residuals"))
+    leverage = property(lambda self: self._row("leverage"))
+    loo_enthalpy = property(lambda self: self._row("loo_enthalpy"))
+    chi2 = property(lambda self: float(self._row("chi2")))
+    dof = property(lambda self: int(self._row("dof")))
+    chi2_reduced = property(lambda self: float(self._row("chi2_reduced")))
+    scaled = property(lambda self: bool(self._row("scaled")))
+    T_m = property(lambda self: float(self._row("T_m")))
+
+    @property
+    def residual_cov(self):
+        return None if self.stack.residual_cov is None else self._row("residual_cov")
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        if not self.stack.ill_conditioned[self.index]:
+            return ()
+        m = self.model
+        T = self.T[self.include]
+        return (f"{m.label} is ill-conditioned for {len(T)} points over "
+                f"{T.max() - T.min():.0f} K ({self.stack.curvature_text(self.index)}): the "
+                "data do not fix the curvature, so extrapolations (boiling points) are "
+                "unsafe; prefer Clausius–Clapeyron, or widen the range",)
+
+    # -- values with uncertainty (correlated with the parameters) -----------------
+    @functools.cached_property
+    def _uparams(self):
+        return tuple(uncertainties.correlated_values(list(self.params), self.cov))
+
+    def uparams(self):
+        """Parameters as correlated ``uncertainties`` numbers (the same objects each call)."""
+        return self._uparams
+
+    def _linear(self, value: float, grad: np.ndarray):
+        """value + grad·(θ - θ̂) as an uncertain number correlated with θ."""
+        out = float(value)
+        for gk, u, t in zip(grad, self.uparams(), self.params):
+            out = out + float(gk) * (u - float(t))
+        return out
+
+    def enthalpy_at(self, T: float):
+        """ΔH_vap(T) with uncertainty [J/mol]."""
+        g = self.model.enthalpy_grad(float(T), self.params)
+        return self._linear(float(self.model.enthalpy(float(T), self.params)), g)
+
+    @property
+    def enthalpy(self):
+        """ΔH_vap at T_m with uncertainty [J/mol]."""
+        return self.enthalpy_at(self.T_m)
+
+    def ln_p(self, T):
+        return self.model.f(np.asarray(T, float), self.params)
+
+    def p(self, T):
+        return np.exp(self.ln_p(T))
+
+    def ln_p_band(self, T, level: float = 0.95):
+        """Confidence band of the fitted ln p at T: (lower, upper)."""
+        T = np.asarray(T, float)
+        sd = quad(self.model.jac(T, self.params), self.cov)
+        k = stats.norm.ppf(0.5 + level / 2)
+        f = self.ln_p(T)
+        return f - k * sd, f + k * sd
+
+    def boiling_point(self, pressure=P_STANDARD):
+        """Temperature [K] where the fitted curve reaches ``pressure`` [Pa].
+
+        ``pressure`` may be an ``uncertainties`` number; its uncertainty is
+        then included. Returns an uncertain number correlated with the
+        parameters.
+        """
+        Pn = float(getattr(pressure, "nominal_value", pressure))
+        if not (math.isfinite(Pn) and Pn > 0):
+            raise FitError(f"pressure must be a positive number of Pa, got {Pn}")
+        Tb = float(self.model.solve_T(math.log(Pn), self.params, self.T_m))
+        if not math.isfinite(Tb):
+            raise FitError(f"the fitted curve never reaches {Pn:g} Pa near the data")
+        dfdT = float(self.model.df_dT(Tb, self.params))
+        out = self._linear(Tb, -self.model.jac(Tb, self.params) / dfdT)
+        if hasattr(pressure, "std_dev"):
+            out = out + (pressure - Pn) / (Pn * dfdT)
+        return out
+
+    def entropy_at_boiling(self, pressure=P_STANDARD):
+        """ΔS_vap = ΔH_vap(T_b)/T_b at the boiling point for ``pressure`` [J/(mol K)]."""
+        Tb = self.boiling_point(pressure)
+        m, th = self.model, self.params
+        t = Tb.nominal_value
+        dH = self._linear(float(m.enthalpy(t, th)), m.enthalpy_grad(t, th))
+        dH = dH + float(m.enthalpy_dT(t, th)) * (Tb - t)
+        return dH / Tb
+
+    def trouton_verdict(self) -> str:
+        """Plain-language comparison of ΔS_vap at the normal boiling point with Trouton's rule."""
+        s = self.entropy_at_boiling()
+        return trouton_verdict(s.nominal_value, s.std_dev)
+
+
+def trouton_verdict(v: float, u: float) -> str:
+    """Compare ΔS_vap = v ± u [J/(mol K)] with Trouton's rule (bands above, from memory)."""
+    lo, hi = TROUTON_BAND
+    if lo - 2 * u <= v <= hi + 2 * u:
+        return f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): within Trouton's rule ({lo:g}–{hi:g})"
+    hlo, hhi = TROUTON_HBOND_BAND
+    if v > hi and hlo - 2 * u <= v <= hhi + 2 * u:
+        return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): above Trouton's rule, as for "
+                f"hydrogen-bonded liquids ({hlo:g}–{hhi:g})")
+    return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): outside Trouton's rule ({lo:g}–{hi:g}) "
+            f"and the hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")
