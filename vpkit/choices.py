@@ -250,12 +250,19 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
         cold = np.argmin(np.where(stack.mask, stack.T, np.inf), axis=1) if stack.N \
             else np.zeros(R, int)
     setup = ReductionSetup(air_from=air, gas_mass=bool(choices.gas_mass),
-                           direction=np.asarray(stack.direction),
-                           offset_from_weighing=~np.isnan(sc["mass_before"]),
-                           cold_index=cold.astype(int),
-                           use_head=np.full(R, bool(choices.use_head)) & ~np.isnan(depth))
+                           direction=_ro(stack.direction),
+                           offset_from_weighing=_ro(~np.isnan(sc["mass_before"])),
+                           cold_index=_ro(cold.astype(int)),
+                           use_head=_ro(np.full(R, bool(choices.use_head)) & ~np.isnan(depth)))
+    density, depth, mode = _ro(density), _ro(depth), _ro(mode)
     return Resolved(density, depth, refmod.CurveSet(own), refmod.CurveSet(compare), mode, setup,
                     tuple(errors), tuple(tuple(n) for n in notices))
+
+
+def _ro(a):
+    a = np.array(a)
+    a.setflags(write=False)
+    return a
 
 
 def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:

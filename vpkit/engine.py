@@ -22,6 +22,7 @@ from __future__ import annotations
 import dataclasses
 import functools
 from dataclasses import dataclass, field
+from types import MappingProxyType
 
 import numpy as np
 
@@ -41,8 +42,7 @@ from .stack import RunStack
 
 def _ro(a):
     a = np.asarray(a)
-    if a.dtype != object:
-        a.setflags(write=False)
+    a.setflags(write=False)
     return a
 
 
@@ -231,12 +231,13 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
         V=_ro(nominal["V"]), P_total=_ro(nominal["P_total"]), p_air=_ro(nominal["p_air"]),
         p_vap=_ro(nominal["p_vap"]), u_p_vap=_ro(u_p), cov_ln_p=_ro(cov_y),
         n_air=_ro(nominal["n_air"]), p_ref=_ro(out["p_ref"]), T_ref=_ro(nominal["T_ref"]),
-        include=_ro(fit_inc), reasons=why, requested_include=asked[0],
-        requested_reasons=asked[1], point_flags={k: _ro(v) for k, v in flags.items()},
+        include=_ro(fit_inc), reasons=_ro(why), requested_include=asked[0],
+        requested_reasons=_ro(asked[1]),
+        point_flags=MappingProxyType({k: _ro(v) for k, v in flags.items()}),
         layout=layout, jacobian=_ro(J_full), fit=fit, enthalpy=nan_bad(dH),
         u_enthalpy=nan_bad(u_dH), T_b_run=nan_bad(Tb_run), u_T_b_run=nan_bad(u_run),
         T_b_normal=nan_bad(Tb_n), u_T_b_normal=nan_bad(u_n), entropy=nan_bad(dS),
-        u_entropy=nan_bad(u_dS), comparison={k: _ro(v) for k, v in cmp.items()},
+        u_entropy=nan_bad(u_dS), comparison=MappingProxyType({k: _ro(v) for k, v in cmp.items()}),
         self_consistent_rounds=_ro(sc_rounds), self_consistent_error=_ro(sc_err),
         robust_z=_ro(z), point_only_u=_ro(u_own))
     object.__setattr__(result, "findings", run_checks(result))

@@ -106,7 +106,11 @@ def build_inputs(stack: RunStack, setup: ReductionSetup, density: np.ndarray,
         nominal.append(np.asarray(value, float)[:, None])
         sigma.append(np.where(used[k], unc[k], 0.0)[:, None])
     sig = np.concatenate(sigma, axis=1)
-    return InputLayout(N, np.concatenate(nominal, axis=1), np.where(np.isfinite(sig), sig, 0.0))
+    nom = np.concatenate(nominal, axis=1)
+    sig = np.where(np.isfinite(sig), sig, 0.0)
+    nom.setflags(write=False)
+    sig.setflags(write=False)
+    return InputLayout(N, nom, sig)
 
 
 def step_sizes(layout: InputLayout) -> np.ndarray:

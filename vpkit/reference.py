@@ -249,6 +249,7 @@ class CurveSet:
                 code.append(distinct.setdefault(c, len(distinct)))
         self.curves = tuple(distinct)
         self.code = np.array(code, int)
+        self.code.setflags(write=False)
 
     @classmethod
     def _of(cls, curves, code) -> CurveSet:
@@ -267,11 +268,15 @@ class CurveSet:
         return (self[r] for r in range(len(self)))
 
     def take(self, idx) -> CurveSet:
-        return CurveSet._of(self.curves, self.code[np.asarray(idx)])
+        code = self.code[np.asarray(idx)]
+        code.setflags(write=False)
+        return CurveSet._of(self.curves, code)
 
     @property
     def has(self) -> np.ndarray:
-        return self.code >= 0
+        out = self.code >= 0
+        out.setflags(write=False)
+        return out
 
     def _apply(self, name: str, T) -> np.ndarray:
         T = np.asarray(T, float)

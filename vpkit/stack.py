@@ -23,6 +23,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
+from types import MappingProxyType
 
 import numpy as np
 
@@ -124,7 +125,7 @@ class RunStack:
 
     @property
     def n_points(self) -> np.ndarray:
-        return self.mask.sum(axis=1)
+        return _frozen(self.mask.sum(axis=1))
 
     def take(self, index) -> RunStack:
         """The runs at ``index`` (an integer array or boolean mask) as a new stack."""
@@ -135,8 +136,8 @@ class RunStack:
             tuple(self.run_ids[i] for i in idx), tuple(self.liquid[i] for i in idx),
             tuple(self.sources[i] for i in idx), pick(self.T), pick(self.reading),
             pick(self.pressure), pick(self.mask), pick(self.include), pick(self.reason),
-            pick(self.rows), {k: _frozen(v[idx]) for k, v in self.scalar.items()},
-            _frozen(self.direction[idx]), {k: _frozen(v[idx]) for k, v in self.u.items()},
+            pick(self.rows), _frozen_map({k: v[idx] for k, v in self.scalar.items()}),
+            _frozen(self.direction[idx]), _frozen_map({k: v[idx] for k, v in self.u.items()}),
             tuple(self.places[i] for i in idx))
 
     def row(self, r: int) -> RunSI:
@@ -224,7 +225,7 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
         tuple(c.run_ids), tuple(c.liquid), tuple(c.sources), _frozen(T), _frozen(reading),
         _frozen(pressure), _frozen(mask), _frozen(pad(c.include, False, bool)),
         _frozen(pad(c.reason, "", object)), _frozen(rows),
-        {k: _frozen(np.asarray(c.scalar[k], float)) for k in SCALARS},
+        MappingProxyType({k: _frozen(np.asarray(c.scalar[k], float)) for k in SCALARS}),
         _frozen(np.asarray(c.direction, int)), _frozen_map(uncertainties(c)),
         tuple(c.places))
     failures = check(stack, c)
@@ -235,8 +236,8 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
     return stack, failures
 
 
-def _frozen_map(d: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
-    return {k: _frozen(np.asarray(v, float)) for k, v in d.items()}
+def _frozen_map(d: dict[str, np.ndarray]) -> Mapping[str, np.ndarray]:
+    return MappingProxyType({k: _frozen(np.asarray(v, float)) for k, v in d.items()})
 
 
 # ---------------------------------------------------------------------------

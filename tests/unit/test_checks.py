@@ -1,0 +1,48 @@
+"""The checks: every finding says the number that triggered it, and one finding feeds
+both the single-run warning and the many-run flag. Thresholds are the documented
+defaults (common practice, no source)."""
+
+import numpy as np
+
+import vpkit
+from tests.conftest import make_run
+from vpkit.batch import analyze_runs
+from vpkit.checks import flags_of
+
+
+def test_findings_carry_their_numbers():
+    a = vpkit.analyze(make_run("ethanol", (30, 32, 34)), warn=False)
+    texts = " | ".join(a.warnings)
+    assert "only 3 points used (fewer than 4)" in texts
+    assert "temperature range of the points used is 4.0 K (below 20 K)" in texts
+    flags, reasons = flags_of(a.result.findings[0])
+    assert "few points" in flags and "narrow range" in flags and "only 3 points" in reasons
+
+
+def test_the_same_finding_in_both_paths():
+    run = make_run("ethanol", boiling_point=340.0)
+    single = vpkit.analyze(run, warn=False)
+    row = analyze_runs({"r": run}).iloc[0]
+    gap = [w for w in single.warnings if "measured boiling point differs" in w]
+    assert gap and gap[0] in row["flag reasons"] and "boiling point gap" in row["flags"]
+    assert "K (more than 2 K)" in gap[0]
+
+
+def test_thresholds_are_choices():
+    run = make_run("ethanol", (25, 30, 35, 40, 45))
+    assert any("few points" in f.flag for f in vpkit.analyze(
+        run, thresholds={"min_points": 6}, warn=False).result.findings[0])
+    assert not any("few points" in f.flag for f in vpkit.analyze(
+        run, warn=False).result.findings[0])
+
+
+def test_impossible_points_name_the_value():
+    run = make_run("ethanol")
+    r = list(run.reading)
+    r[0] -= 0.3
+    bad = run.__class__(run.entries, run.units, run.bath_temperature, tuple(r), run.pressure,
+                        run.include, run.reason)
+    a = vpkit.analyze(bad, warn=False)
+    w = next(x for x in a.warnings if x.startswith("point 0"))
+    assert "excluded" in w and "p_vap = -" in w and "Pa)" in w
+    assert np.isfinite(a.enthalpy.nominal_value)

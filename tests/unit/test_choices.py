@@ -1,0 +1,54 @@
+"""The one resolver: each choice means the same thing for one run or many.
+Expectations are the documented meanings in vpkit.choices (ours, no source)."""
+
+import numpy as np
+import pytest
+
+import vpkit
+from tests.conftest import make_run
+from vpkit.choices import Choices, resolve
+from vpkit.stack import stack_runs
+
+
+def _unknown_liquid():
+    base = make_run("ethanol")
+    entries = tuple((k, vpkit.Entry("pentan-3-ol") if k == "liquid" else e)
+                    for k, e in base.entries)
+    return base.__class__(entries, base.units, base.bath_temperature, base.reading,
+                          base.pressure, base.include, base.reason)
+
+
+def test_auto_means_reference_where_there_is_one_else_self_consistent():
+    s = stack_runs({"w": make_run("water"), "e": make_run("ethanol"), "x": _unknown_liquid()})
+    r = resolve(s, Choices())
+    assert list(r.vapor_mode) == ["reference", "reference", "fit"]
+    assert r.compare_curve[0].label == "IAPWS-95"
+    assert r.compare_curve[1].label.startswith("Antoine")
+    assert r.compare_curve[2] is None and "no reference equation" in str(r.notices[2][0])
+    assert list(resolve(s, Choices(air_from="injected")).vapor_mode) == ["none"] * 3
+
+
+def test_choices_that_cannot_apply_fail_their_run_only():
+    s = stack_runs({"e": make_run("ethanol"), "x": _unknown_liquid()})
+    r = resolve(s, Choices(vapor_at_air_reference="reference"))
+    assert r.errors[0] is None and "needs a reference equation" in str(r.errors[1])
+    r2 = resolve(s, Choices(reference="iapws95"))
+    assert "IAPWS-95 describes water" in str(r2.errors[0])
+
+
+@pytest.mark.parametrize("bad", [dict(weighting="robust"), dict(air_from="guess"),
+                                 dict(reference="crc"), dict(bubble_depth=float("nan")),
+                                 dict(thresholds={"min_pointz": 3})])
+def test_invalid_choices_name_the_option(bad):
+    with pytest.raises(vpkit.BadValueError) as info:
+        Choices(**bad)
+    assert info.value.column == next(iter(bad))
+
+
+def test_density_from_reference_and_the_cold_reading():
+    run = make_run("toluene", (2, 25, 30, 35))
+    s = stack_runs([run])
+    r = resolve(s, Choices(air_from="cold"))
+    assert r.setup.cold_index[0] == 0
+    assert r.density[0] == pytest.approx(float(s.scalar["density"][0]))
+    assert np.isfinite(r.density).all()

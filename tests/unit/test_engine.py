@@ -1,0 +1,130 @@
+"""The one analysis path: frozen results, warning classes, one run's trouble kept to itself.
+
+Expectations are behaviour we promise (common practice, no source); numbers are
+checked against published curves in tests/reference.
+"""
+
+import dataclasses
+import warnings
+
+import numpy as np
+import pytest
+
+import vpkit
+from tests.conftest import make_run
+from vpkit import errors as E
+from vpkit.choices import Choices
+from vpkit.engine import analyze_stack
+from vpkit.simulate import NOISE
+from vpkit.stack import stack_runs
+
+
+def _arrays(obj, seen, path="", depth=0):
+    """Every numpy array reachable from obj's fields and properties (depth-limited)."""
+    if id(obj) in seen or depth > 4:
+        return
+    seen.add(id(obj))
+    if isinstance(obj, np.ndarray):
+        yield path, obj
+        return
+    if isinstance(obj, (str, bytes, int, float, type(None))):
+        return
+    if isinstance(obj, dict) or hasattr(obj, "keys") and hasattr(obj, "__getitem__"):
+        for k in list(obj.keys()):
+            yield from _arrays(obj[k], seen, f"{path}[{k!r}]", depth + 1)
+        return
+    if isinstance(obj, (tuple, list)):
+        for i, v in enumerate(obj[:5]):
+            yield from _arrays(v, seen, f"{path}[{i}]", depth + 1)
+        return
+    names = [f.name for f in dataclasses.fields(obj)] if dataclasses.is_dataclass(obj) else []
+    names += [n for n, v in vars(type(obj)).items() if isinstance(v, property)]
+    for name in names:
+        if name.startswith("_"):
+            continue
+        try:
+            value = getattr(obj, name)
+        except Exception:  # noqa: BLE001 - a property that needs data the run lacks
+            continue
+        yield from _arrays(value, seen, f"{path}.{name}", depth + 1)
+
+
+def test_writing_into_any_array_of_a_result_raises():
+    a = vpkit.analyze(make_run("ethanol", noise=NOISE, rng=np.random.default_rng(1)),
+                      warn=False)
+    found = list(_arrays(a, set(), "analysis"))
+    found += list(_arrays(a.fit, set(), "fit"))
+    found += list(_arrays(a.comparison, set(), "comparison"))
+    found += list(_arrays(a.inputs, set(), "inputs"))
+    names = {p for p, _ in found}
+    for must in ("analysis.T", "analysis.p_vap", "analysis.cov_ln_p", "fit.params", "fit.cov",
+                 "analysis.jacobian", "inputs.sigma"):
+        assert must in names, must
+    assert len(found) > 40
+    for path, arr in found:
+        if arr.size == 0:
+            continue
+        with pytest.raises(ValueError, match="read-only"):
+            arr.flat[0] = arr.flat[0]
+            pytest.fail(f"{path} is writable")
+    with pytest.raises(TypeError):
+        a.result.point_flags["p_low"] = None
+
+
+def test_the_old_loophole_is_closed():
+    """Writing a parameter once changed a.fit.p(330) while a.enthalpy kept the old value."""
+    a = vpkit.analyze(make_run("ethanol"), warn=False)
+    with pytest.raises(ValueError):
+        a.fit.params[1] *= 1.01
+
+
+CASES = [
+    ("extrapolation", make_run("water", (25, 30, 35, 40, 45, 50, 55, 60)), {},
+     E.ExtrapolationWarning, "beyond the highest point"),
+    ("ill-conditioned", make_run("ethanol", (25, 30, 35, 40, 45), noise=NOISE,
+                                 rng=np.random.default_rng(5)), {"model": "antoine"},
+     E.IllConditionedWarning, "ill-conditioned"),
+    ("few points", make_run("ethanol", (30, 40, 50)), {}, E.IllConditionedWarning,
+     "only 3 points used"),
+    ("no reference", None, {}, E.ReferenceRangeWarning, "no reference equation"),
+]
+
+
+@pytest.mark.parametrize("case", CASES, ids=[c[0] for c in CASES])
+def test_warnings_are_classes_users_can_filter(case):
+    _, run, options, category, fragment = case
+    if run is None:  # a liquid vpkit has no equation for, with a measured density
+        base = make_run("ethanol")
+        entries = tuple((k, vpkit.Entry("pentan-3-ol") if k == "liquid" else e)
+                        for k, e in base.entries)
+        run = base.__class__(entries, base.units, base.bath_temperature, base.reading,
+                             base.pressure, base.include, base.reason)
+    with pytest.warns(category, match=fragment):
+        a = vpkit.analyze(run, **options)
+    notice = next(w for w in a.warnings if fragment in w)
+    assert notice.category is category and issubclass(category, E.VpkitWarning)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        warnings.simplefilter("ignore", category)
+        for other in {w.category for w in a.warnings} - {category}:
+            warnings.simplefilter("ignore", other)
+        vpkit.analyze(run, **options)
+
+
+def test_one_runs_trouble_stays_with_that_run():
+    good = make_run("ethanol")
+    bad = make_run("toluene", (30.0,))
+    res = analyze_stack(stack_runs({"good": good, "bad": bad}), Choices())
+    assert res.errors[0] is None
+    assert isinstance(res.errors[1], vpkit.FitError) and "got 1" in str(res.errors[1])
+    assert np.isfinite(res.enthalpy[0]) and np.isnan(res.enthalpy[1])
+    alone = analyze_stack(stack_runs({"good": good}), Choices())
+    assert res.enthalpy[0] == alone.enthalpy[0]
+
+
+def test_requested_and_automatic_exclusions_are_kept_apart():
+    run = make_run("toluene", (2, 25, 30, 35, 40, 45, 50, 55))
+    a = vpkit.analyze(run, air_from="cold", exclude={3: "stirrer stopped"}, warn=False)
+    assert not a.include[0] and "cold reference" in a.reasons[0]
+    assert not a.include[3] and a.reasons[3] == "stirrer stopped"
+    assert a.result.requested_include[0, 0] and not a.result.requested_include[0, 3]

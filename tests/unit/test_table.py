@@ -1,0 +1,47 @@
+"""Long tables: the same stack as from run records, located errors, one bad run kept
+to itself. Expected values: the run records' own conversion (vpkit.stack.stack_runs),
+which the unit tests of units.py check against the SI Brochure."""
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from tests.conftest import make_run
+from vpkit.errors import RunFileError
+from vpkit.stack import stack_runs
+from vpkit.table import runs_to_table, stack_table, table_to_runs
+
+
+def test_table_and_runs_give_the_same_stack():
+    runs = {"a": make_run("ethanol", depth=0.04), "b": make_run("toluene", direction=-1,
+                                                                offset=9e-6)}
+    table = runs_to_table(runs)
+    s1 = stack_runs(runs)
+    s2, failures = stack_table(table)
+    assert not failures
+    for name in ("T", "reading", "mask", "include"):
+        np.testing.assert_array_equal(getattr(s1, name), getattr(s2, name))
+    for key in s1.scalar:
+        np.testing.assert_array_equal(s1.scalar[key], s2.scalar[key])
+    for key in s1.u:
+        np.testing.assert_allclose(s1.u[key], s2.u[key], rtol=1e-15)
+    back = table_to_runs(table)
+    assert set(back) == {"a", "b"}
+
+
+def test_whole_table_errors_name_the_column():
+    table = runs_to_table({"a": make_run("ethanol")}).rename(columns={"reading [m**3]": "vol"})
+    with pytest.raises(RunFileError, match="unknown column 'vol'"):
+        stack_table(table)
+    with pytest.raises(RunFileError, match="run_id"):
+        stack_table(pd.DataFrame({"x": [1]}))
+
+
+def test_a_bad_cell_fails_only_its_run_and_names_the_row():
+    table = runs_to_table({"a": make_run("ethanol"), "b": make_run("water")})
+    table["bath_temperature [K]"] = table["bath_temperature [K]"].astype(object)
+    table.loc[9, "bath_temperature [K]"] = "hot"
+    stack, failures = stack_table(table)
+    assert stack.run_ids == ("a",)
+    (rid, exc), = failures
+    assert rid == "b" and exc.row == 11 and "'hot' is not a number" in str(exc)
