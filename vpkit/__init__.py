@@ -10,6 +10,7 @@ Typical use::
     result.figure().savefig("run.png", dpi=300)
 """
 
+from . import display
 from .analysis import Analysis, analyze
 from .errors import (
     BadValueError,
@@ -55,5 +56,5 @@ __all__ = [
     "InputError", "Run", "RunStack", "stack_runs",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
     "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "read_run",
-    "reference_curve", "write_run",
+    "reference_curve", "write_run", "display",
 ]

@@ -56,13 +56,18 @@ def signed(value: float, unit: str = "", decimals: int = 1) -> str:
     return f"{_clean(round(value, decimals)):+.{decimals}f} {LABELS.get(unit, unit)}".rstrip()
 
 
-def quantity(value_si: float, u_si: float | None, unit: str, kind: str) -> str:
-    """An SI value (and uncertainty) shown in ``unit`` (a unit of ``kind``)."""
+def quantity(value_si: float, u_si: float | None, unit: str, kind: str,
+             delta: bool = False) -> str:
+    """An SI value (and uncertainty) shown in ``unit`` (a unit of ``kind``).
+
+    ``delta`` shows a temperature difference (in K for degC and K).
+    """
     if value_si is None or not math.isfinite(value_si):
         return "—"
-    v = float(from_si(value_si, unit, kind))
+    v = float(from_si(value_si, unit, kind, delta=delta))
     u = None if u_si is None else float(from_si(u_si, unit, kind, delta=True))
-    return value_u(v, u, unit) if u is not None else number(v, unit)
+    shown = ("K" if unit in ("degC", "K") else unit) if delta else unit
+    return value_u(v, u, shown) if u is not None else number(v, shown)
 
 
 def _round_sig(x: float, digits: int) -> float:

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 from matplotlib.figure import Figure
 
+from . import display as D
 from .constants import T_ZERO_C
 
 MM_PER_INCH = 25.4
@@ -71,8 +72,9 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
                         fontsize=st["small"], color="0.3")
     ax.set_ylabel(r"$\ln(p_\mathrm{vap}/\mathrm{Pa})$", fontsize=st["font"])
     dH = f.enthalpy
-    ax.set_title(f"{a.si.liquid}: ΔH_vap = {dH.nominal_value / 1000:.1f} ± "
-                 f"{dH.std_dev / 1000:.1f} kJ/mol at {f.T_m:.0f} K", fontsize=st["font"])
+    ax.set_title(f"{a.si.liquid}: ΔH_vap = "
+                 f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} at "
+                 f"{D.number(f.T_m, 'K', 3)}", fontsize=st["font"])
     ax.legend(fontsize=st["small"], frameon=False, loc="lower left", numpoints=1)
     res = f.residuals
     axr.axhline(0, color="k", lw=st["lw"] * 0.7)

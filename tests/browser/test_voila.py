@@ -28,9 +28,9 @@ def test_toggle_in_browser_shows_core_enthalpy(tmp_path):
     served = vpkit.read_run(tmp_path / "served" / "data" / "demo" / "recovered_2-propanol.csv")
     expected = vpkit.analyze(served, exclude={2: "excluded in the explorer"})
     baseline = vpkit.analyze(served)
-    assert r["before"][0] == f"{baseline.enthalpy.nominal_value / 1000:.2f}"
-    assert r["after"][0] == f"{expected.enthalpy.nominal_value / 1000:.2f}"
-    assert r["after"][1] == f"{expected.enthalpy.std_dev / 1000:.2f}"
+    shown = lambda e: vpkit.display.value_u(e.nominal_value / 1e3, e.std_dev / 1e3)  # noqa: E731
+    assert " ± ".join(r["before"]) == shown(baseline.enthalpy)
+    assert " ± ".join(r["after"]) == shown(expected.enthalpy)
     assert r["screenshot"].exists()
     keep = ROOT / "out" / "browser-test"
     keep.mkdir(parents=True, exist_ok=True)

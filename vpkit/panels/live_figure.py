@@ -15,6 +15,7 @@ import numpy as np
 from matplotlib.collections import LineCollection
 from matplotlib.figure import Figure
 
+from .. import display as D
 from ..constants import T_ZERO_C
 
 MM_PER_INCH = 25.4
@@ -199,8 +200,9 @@ class LiveFigure:
         self.rerr.set_segments([[(x[i], res[i] - u[i]), (x[i], res[i] + u[i])]
                                 for i in self._idx_in])
         dH = f.enthalpy
-        self.title.set_text(f"{a.si.liquid}: ΔH_vap = {dH.nominal_value / 1000:.2f} ± "
-                            f"{dH.std_dev / 1000:.2f} kJ/mol at {f.T_m:.1f} K")
+        self.title.set_text(f"{a.si.liquid}: ΔH_vap = "
+                            f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} "
+                            f"at {D.number(f.T_m, 'K')}")
         grown = self._keep_limits(xg, np.r_[y[ok], lo, hi], res[ok], u[ok])
         self.last_redraw = self.redraw(full=grown)
 

@@ -16,9 +16,10 @@ from typing import Any
 import ipywidgets as W
 import numpy as np
 
+from .. import display as D
 from .. import reference as refmod
 from ..analysis import Analysis, analyze
-from ..constants import P_STANDARD
+from ..constants import T_ZERO_C
 from ..errors import VpkitError
 from ..plots import COLUMN_WIDTHS
 from ..report import SAFETY_NOTE, write_outputs
@@ -206,43 +207,40 @@ class RunPanel:
                         "table": time.perf_counter() - t3}
         self._save()
 
-    # -- numbers for display (units at the edge) -------------------------------
-    def _p(self, pa: float) -> str:
-        unit = self.choices["pressure_unit"]
-        return f"{from_si(pa, unit, 'pressure'):.4g} {unit}"
+    # -- numbers for display: SI from the result, text from vpkit.display ----------
+    def _p(self, pa: float, u: float | None = None) -> str:
+        return D.quantity(pa, u, self.choices["pressure_unit"], "pressure")
 
-    def _t(self, kelvin: float) -> str:
-        unit = self.choices["temperature_unit"]
-        label = dict((v, k) for k, v in TEMPERATURE_UNITS)[unit]
-        return f"{from_si(kelvin, unit, 'temperature'):.2f} {label}"
-
-    def _dt(self, kelvin: float) -> str:
-        unit = self.choices["temperature_unit"]
-        v = from_si(kelvin, unit, "temperature", delta=True)
-        return f"{v:.2f} {'K' if unit != 'degF' else '°F'}"
+    def _t(self, kelvin: float, u: float | None = None) -> str:
+        return D.quantity(kelvin, u, self.choices["temperature_unit"], "temperature")
 
     def readouts(self) -> dict:
-        """The numbers the readout area shows, in SI (for code and tests)."""
+        """The numbers the readout area shows, in SI (for code and tests).
+
+        They are read off the analysis's results table (the same numbers every
+        report shows), converted back to SI where the table holds display units.
+        """
         a = self.analysis
-        f = a.fit
-        dH = f.enthalpy
-        out = {"enthalpy": dH.nominal_value, "u_enthalpy": dH.std_dev, "T_m": f.T_m,
-               "chi2_reduced": f.chi2_reduced,
+        row = a.results().iloc[0]
+        kelvin = lambda c: float(row[c]) + T_ZERO_C  # noqa: E731
+        out = {"enthalpy": float(row["ΔH_vap [kJ/mol]"]) * 1e3,
+               "u_enthalpy": float(row["u(ΔH_vap) [kJ/mol]"]) * 1e3, "T_m": float(row["T_m [K]"]),
+               "chi2_reduced": float(row["reduced chi2"]),
+               "T_b_run": kelvin("T_b at run pressure [degC]"),
+               "u_T_b_run": float(row["u(T_b at run pressure) [K]"]),
+               "T_b_normal": kelvin("T_b at 101.325 kPa [degC]"),
+               "u_T_b_normal": float(row["u(T_b at 101.325 kPa) [K]"]),
+               "entropy": float(row["ΔS_vap at T_b [J/(mol K)]"]),
+               "u_entropy": float(row["u(ΔS_vap) [J/(mol K)]"]), "trouton": row["Trouton"],
                "shift": (None if self.previous_enthalpy is None
-                         else dH.nominal_value - self.previous_enthalpy)}
-        Tb_run = a.boiling_point(a.si.P_bar)
-        Tb_n = a.boiling_point(P_STANDARD)
-        out.update(T_b_run=Tb_run.nominal_value, u_T_b_run=Tb_run.std_dev,
-                   T_b_normal=Tb_n.nominal_value, u_T_b_normal=Tb_n.std_dev)
-        s = f.entropy_at_boiling()
-        out.update(entropy=s.nominal_value, u_entropy=s.std_dev, trouton=f.trouton_verdict())
-        if a.measured_boiling_point is not None:
-            out["T_b_measured"] = a.measured_boiling_point.nominal_value
-        if a.comparison is not None:
-            ref = a.comparison.enthalpy
-            out.update(reference_enthalpy=ref,
-                       deviation_percent=100 * (dH.nominal_value / ref - 1),
-                       deviation_u=(dH.nominal_value - ref) / dH.std_dev)
+                         else float(row["ΔH_vap [kJ/mol]"]) * 1e3 - self.previous_enthalpy)}
+        if np.isfinite(row["measured T_b [degC]"]):
+            out["T_b_measured"] = kelvin("measured T_b [degC]")
+        if row["reference"]:
+            out.update(reference=row["reference"],
+                       reference_enthalpy=float(row["reference ΔH_vap at T_m [kJ/mol]"]) * 1e3,
+                       deviation_percent=float(row["deviation from reference [%]"]),
+                       deviation_u=float(row["deviation from reference [u]"]))
         return out
 
     # -- widgets ----------------------------------------------------------------
@@ -421,28 +419,31 @@ class RunPanel:
         if a is None:
             return
         r = self.readouts()
-        lines = [f"<b>ΔH_vap = {r['enthalpy'] / 1000:.2f} ± {r['u_enthalpy'] / 1000:.2f} "
-                 f"kJ/mol</b> at T_m = {self._t(r['T_m'])}"]
+        lines = [f"<b>ΔH_vap = {D.value_u(r['enthalpy'] / 1e3, r['u_enthalpy'] / 1e3, 'kJ/mol')}"
+                 f"</b> at T_m = {self._t(r['T_m'])}"]
         if r["shift"] is not None:
-            lines[0] += f" &nbsp; (shift from previous: {r['shift'] / 1000:+.2f} kJ/mol)"
+            lines[0] += f" &nbsp; (shift from previous: {D.signed(r['shift'] / 1e3, 'kJ/mol', 2)})"
         lines.append(html.escape(r["trouton"]))
         lines.append(f"boiling point at the run's pressure ({self._p(a.si.P_bar)}): "
-                     f"{self._t(r['T_b_run'])} ± {self._dt(r['u_T_b_run'])}; at 101.325 kPa: "
-                     f"{self._t(r['T_b_normal'])} ± {self._dt(r['u_T_b_normal'])}")
+                     f"{self._t(r['T_b_run'], r['u_T_b_run'])}; at 101.325 kPa: "
+                     f"{self._t(r['T_b_normal'], r['u_T_b_normal'])}")
         if "T_b_measured" in r:
+            dT = D.quantity(r["T_b_measured"] - r["T_b_run"], None,
+                            self.choices["temperature_unit"], "temperature", delta=True)
             lines.append(f"measured boiling point {self._t(r['T_b_measured'])}; measured − "
-                         f"predicted = {self._dt(r['T_b_measured'] - r['T_b_run'])}")
-        lines.append(f"reduced χ² = {r['chi2_reduced']:.3g}"
+                         f"predicted = {dT}")
+        lines.append(f"reduced χ² = {D.number(r['chi2_reduced'], digits=3)}"
                      + (" (covariance scaled by it)" if a.fit.scaled else ""))
         if "reference_enthalpy" in r:
-            lines.append(f"{html.escape(a.comparison.curve.label)}: ΔH_vap at T_m = "
-                         f"{r['reference_enthalpy'] / 1000:.2f} kJ/mol; deviation "
-                         f"{r['deviation_percent']:+.1f} % ({r['deviation_u']:+.1f} u)")
+            lines.append(f"{html.escape(r['reference'])}: ΔH_vap at T_m = "
+                         f"{D.number(r['reference_enthalpy'] / 1e3, 'kJ/mol')}; deviation "
+                         f"{D.signed(r['deviation_percent'], '%')} "
+                         f"({D.signed(r['deviation_u'], 'u')})")
         self.w_readouts.value = "<br>".join(lines)
         try:
             P = _to_pa(self.w_pressure.value, self.choices["pressure_unit"])
             Tb = a.boiling_point(P)
-            self.w_tb_other.value = f"→ {self._t(Tb.nominal_value)} ± {self._dt(Tb.std_dev)}"
+            self.w_tb_other.value = f"→ {self._t(Tb.nominal_value, Tb.std_dev)}"
         except (VpkitError, ValueError) as exc:
             self.w_tb_other.value = f"<span style='color:#a00'>{html.escape(str(exc))}</span>"
         self._show_messages()
@@ -451,16 +452,18 @@ class RunPanel:
 
     def _render_points(self) -> None:
         a = self.analysis
-        f = a.fit
+        table = a.points()
         ru = self.run.units[1]
-        shift = (f.loo_enthalpy - f.enthalpy.nominal_value) / 1000.0
         for i, (_, _, lab) in enumerate(self._point_rows):
-            flag = (f" <span style='color:#a00'>⚑ {html.escape('; '.join(a.flags[i]))}</span>"
-                    if a.flags[i] else "")
+            row = table.iloc[i]
+            flag = (f" <span style='color:#a00'>⚑ {html.escape(row['flags'])}</span>"
+                    if row["flags"] else "")
+            shift = row["ΔH shift if left out [kJ/mol]"]
             lab.value = (f"{self._t(a.T[i])}, {self.run.reading[i]:g} {html.escape(ru)}, "
-                         f"{a.V[i] * 1e6:.3f} mL, {self._p(a.p_vap[i])} ± "
-                         f"{self._p(a.u_p_vap[i])}, {f.residuals[i]:+.4f}, "
-                         + ("—" if np.isnan(shift[i]) else f"{shift[i]:+.2f}") + flag)
+                         f"{D.number(row['V [mL]'], 'mL')}, "
+                         f"{self._p(a.p_vap[i], a.u_p_vap[i])}, "
+                         f"{D.signed(row['residual [Δln p]'], '', 4)}, "
+                         + ("—" if not np.isfinite(shift) else D.signed(shift, '', 2)) + flag)
 
     def _show_messages(self, error: str | None = None) -> None:
         parts = []
