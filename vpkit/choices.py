@@ -267,7 +267,7 @@ def _ro(a):
 
 def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:
     """The setup of the runs at ``idx`` (per-run arrays indexed)."""
-    pick = lambda v: np.asarray(v)[idx] if np.ndim(v) else v  # noqa: E731
+    pick = lambda v: _ro(np.asarray(v)[idx]) if np.ndim(v) else v  # noqa: E731
     return ReductionSetup(setup.air_from, setup.gas_mass, pick(setup.direction),
                           pick(setup.offset_from_weighing), pick(setup.cold_index),
                           pick(setup.use_head))

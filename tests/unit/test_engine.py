@@ -52,10 +52,12 @@ def _arrays(obj, seen, path="", depth=0):
 def test_writing_into_any_array_of_a_result_raises():
     a = vpkit.analyze(make_run("ethanol", noise=NOISE, rng=np.random.default_rng(1)),
                       warn=False)
-    found = list(_arrays(a, set(), "analysis"))
-    found += list(_arrays(a.fit, set(), "fit"))
-    found += list(_arrays(a.comparison, set(), "comparison"))
-    found += list(_arrays(a.inputs, set(), "inputs"))
+    found = []
+    for name, obj in (("analysis", a), ("fit", a.fit), ("comparison", a.comparison),
+                      ("inputs", a.inputs), ("setup", a.setup), ("si", a.si),
+                      ("result", a.result), ("resolved", a.result.resolved),
+                      ("stack", a.result.stack), ("stackfit", a.result.fit)):
+        found += list(_arrays(obj, set(), name))
     names = {p for p, _ in found}
     for must in ("analysis.T", "analysis.p_vap", "analysis.cov_ln_p", "fit.params", "fit.cov",
                  "analysis.jacobian", "inputs.sigma"):
