@@ -88,7 +88,7 @@ class ManyResult:
         return out
 
 
-def analyze_stack_in_blocks(stack: RunStack, choices: Choices, *, chunk_runs: int = 4096,
+def analyze_stack_in_blocks(stack: RunStack, choices: Choices, *, chunk_runs: int = 2048,
                             keep: bool = True) -> tuple[pd.DataFrame, tuple]:
     """Analyse a stack block by block; the summary in stack order, and the blocks kept."""
     order = np.argsort(stack.n_points, kind="stable")
@@ -129,7 +129,7 @@ def _with_failures(summary: pd.DataFrame, failed, order_ids=None) -> pd.DataFram
     return out
 
 
-def analyze_many(source, *, chunk_runs: int = 4096, keep: bool = True, sessions: bool = True,
+def analyze_many(source, *, chunk_runs: int = 2048, keep: bool = True, sessions: bool = True,
                  **options) -> ManyResult:
     """Analyse a folder of run files, a long-table CSV or DataFrame, or Run records.
 
@@ -166,7 +166,7 @@ def analyze_many(source, *, chunk_runs: int = 4096, keep: bool = True, sessions:
                       applied, paths)
 
 
-def analyze_table(table: pd.DataFrame, *, chunk_runs: int = 4096, **options) -> pd.DataFrame:
+def analyze_table(table: pd.DataFrame, *, chunk_runs: int = 2048, **options) -> pd.DataFrame:
     """Analyse every run of a long table: one summary row per run (input order).
 
     Parameters

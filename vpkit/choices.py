@@ -169,8 +169,10 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
     has = {liq: refmod.has_reference(liq) for liq in set(stack.liquid)}
     is_water = lambda liq: refmod.canonical_name(liq) == "water"  # noqa: E731
     source = choices.reference or "auto"
-    own: list = [None] * R
-    compare: list = [None] * R
+    curves: dict = {}  # distinct curves -> index
+    own_code = np.full(R, -1)
+    compare_code = np.full(R, -1)
+    code = lambda c: -1 if c is None else curves.setdefault(c, len(curves))  # noqa: E731
     for liquid in has:  # one decision per liquid, shared by its runs
         rows = np.flatnonzero(liquids == liquid)
         mine = None if not has[liquid] else refmod.reference_curve(
@@ -191,8 +193,8 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                     target) != refmod.canonical_name(liquid)):
                 note = Notice(f"compared with {curve.liquid}, not with the run's liquid "
                               f"{liquid!r}", ReferenceRangeWarning)
-        for r in rows:
-            own[r], compare[r] = mine, curve
+        own_code[rows], compare_code[rows] = code(mine), code(curve)
+        for r in rows if (note is not None or error is not None) else ():
             if note is not None:
                 notices[r].append(note)
             if error is not None:
@@ -227,7 +229,7 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                                **stack.place(r, "injected_air_volume"),
                                hint="add it, or use air_from='weighed'"))
     else:
-        with_curve = np.array([c is not None for c in own])
+        with_curve = own_code >= 0
         mode = np.where(with_curve, "reference", "fit").astype(object) if vap == "auto" \
             else np.full(R, vap, dtype=object)
         if vap == "reference":
@@ -255,7 +257,9 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                            cold_index=_ro(cold.astype(int)),
                            use_head=_ro(np.full(R, bool(choices.use_head)) & ~np.isnan(depth)))
     density, depth, mode = _ro(density), _ro(depth), _ro(mode)
-    return Resolved(density, depth, refmod.CurveSet(own), refmod.CurveSet(compare), mode, setup,
+    distinct = tuple(curves)
+    return Resolved(density, depth, refmod.CurveSet.from_codes(distinct, own_code),
+                    refmod.CurveSet.from_codes(distinct, compare_code), mode, setup,
                     tuple(errors), tuple(tuple(n) for n in notices))
 
 

@@ -254,8 +254,14 @@ class CurveSet:
     @classmethod
     def _of(cls, curves, code) -> CurveSet:
         out = cls.__new__(cls)
-        out.curves, out.code = curves, code
+        out.curves, out.code = tuple(curves), np.asarray(code, int)
+        out.code.setflags(write=False)
         return out
+
+    @classmethod
+    def from_codes(cls, curves, code) -> CurveSet:
+        """From the distinct curves and each run's index into them (-1: none)."""
+        return cls._of(curves, np.array(code, int))
 
     def __len__(self) -> int:
         return len(self.code)
@@ -268,9 +274,7 @@ class CurveSet:
         return (self[r] for r in range(len(self)))
 
     def take(self, idx) -> CurveSet:
-        code = self.code[np.asarray(idx)]
-        code.setflags(write=False)
-        return CurveSet._of(self.curves, code)
+        return CurveSet._of(self.curves, self.code[np.asarray(idx)])
 
     @property
     def has(self) -> np.ndarray:
