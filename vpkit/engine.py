@@ -262,6 +262,16 @@ def _point_only_uncertainty(layout: InputLayout, J: np.ndarray, fit: StackFit) -
     return np.sqrt(var)
 
 
+def _median_rows(a: np.ndarray) -> np.ndarray:
+    """Median of the finite values of each row (NaN where a row has none)."""
+    a = np.where(np.isfinite(a), a, np.nan)
+    srt = np.sort(a, axis=1)  # NaN sort last
+    k = np.isfinite(a).sum(axis=1)
+    lo = np.take_along_axis(srt, np.maximum((k - 1) // 2, 0)[:, None], axis=1)[:, 0]
+    hi = np.take_along_axis(srt, np.maximum(k // 2, 0)[:, None], axis=1)[:, 0]
+    return np.where(k > 0, 0.5 * (lo + hi), np.nan)
+
+
 def _robust_z(T, y, inc, u_own) -> np.ndarray:
     """Distance of each included point from a Theil-Sen line through ln p vs 1/T.
 
@@ -283,10 +293,8 @@ def _robust_z(T, y, inc, u_own) -> np.ndarray:
         use = (inc.sum(axis=1) >= 4) & np.isfinite(s).any(axis=1)
         if not use.any():
             return out
-        slope = np.full(R, np.nan)
-        slope[use] = np.nanmedian(s[use], axis=1)
+        slope = _median_rows(s)
         r = yy - slope[:, None] * x
-        med = np.full(R, np.nan)
-        med[use] = np.nanmedian(r[use], axis=1)
+        med = _median_rows(r)
         z = (r - med[:, None]) / u_own
     return np.where(inc & use[:, None], z, np.nan)

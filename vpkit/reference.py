@@ -310,8 +310,8 @@ class CurveSet:
         return values[self.code]
 
 
-def liquid_density(liquid: str, T):
-    """Saturated-liquid density [kg/m^3] at T [K], PPDS equation [3]."""
+@functools.cache
+def _density_coefficients(liquid: str) -> tuple[float, ...]:
     cas = _row(liquid)["cas"]
     table = density_table()
     hit = table[table["cas"] == cas]
@@ -319,9 +319,14 @@ def liquid_density(liquid: str, T):
         raise InputError(f"no bundled density for {liquid!r}", column="liquid_density",
                          hint="enter the measured liquid_density")
     r = hit.iloc[0]
-    tau = 1.0 - np.asarray(T, float) / r["T_c"]
-    return (r["rho_c"] + r["A"] * tau**0.35 + r["B"] * tau ** (2 / 3) + r["C"] * tau
-            + r["D"] * tau ** (4 / 3))
+    return tuple(float(r[k]) for k in ("T_c", "rho_c", "A", "B", "C", "D"))
+
+
+def liquid_density(liquid: str, T):
+    """Saturated-liquid density [kg/m^3] at T [K], PPDS equation [3]."""
+    T_c, rho_c, A, B, C, D = _density_coefficients(liquid)
+    tau = 1.0 - np.asarray(T, float) / T_c
+    return rho_c + A * tau**0.35 + B * tau ** (2 / 3) + C * tau + D * tau ** (4 / 3)
 
 
 def compare_stack(curves: CurveSet, T, p, include, T_m) -> dict:

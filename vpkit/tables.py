@@ -23,6 +23,11 @@ def results_table(res, rows=None) -> pd.DataFrame:
     Runs that could not be analysed keep their id and liquid, NaN numbers and
     the reason in ``status``.
     """
+    return pd.DataFrame(results_columns(res, rows), columns=list(RESULT_COLUMNS))
+
+
+def results_columns(res, rows=None) -> dict:
+    """The columns of :func:`results_table` as a dict of arrays (no DataFrame)."""
     idx = np.arange(res.R) if rows is None else np.asarray(rows, int)
     s, f, c = res.stack, res.fit, res.comparison
     inc = res.include[idx]
@@ -78,7 +83,9 @@ def results_table(res, rows=None) -> pd.DataFrame:
         "flag reasons": [x[1] for x in flags],
         "status": ["" if res.errors[i] is None else str(res.errors[i]) for i in idx],
     }
-    return pd.DataFrame(data)[list(RESULT_COLUMNS)]
+    n = len(idx)
+    return {k: (np.full(n, v, dtype=object) if isinstance(v, str) else v)
+            for k, v in data.items()}
 
 
 #: Columns of :func:`results_table`, in order.

@@ -33,6 +33,7 @@ from ..session import (
     save_session,
     session_path,
 )
+from ..tables import results_columns
 from ..units import from_si
 from .live_figure import LiveFigure
 
@@ -221,7 +222,7 @@ class RunPanel:
         report shows), converted back to SI where the table holds display units.
         """
         a = self.analysis
-        row = a.results().iloc[0]
+        row = {k: v[0] for k, v in results_columns(a.result, [a.index]).items()}
         kelvin = lambda c: float(row[c]) + T_ZERO_C  # noqa: E731
         out = {"enthalpy": float(row["ΔH_vap [kJ/mol]"]) * 1e3,
                "u_enthalpy": float(row["u(ΔH_vap) [kJ/mol]"]) * 1e3, "T_m": float(row["T_m [K]"]),
