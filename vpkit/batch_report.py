@@ -19,7 +19,7 @@ import numpy as np
 
 from . import display as D
 from .plots import overview_figure
-from .report import AIR_TEXT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
+from .report import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
 
 #: Columns shown in the report's summary table, with how each is rounded.
 SUMMARY_COLUMNS = ["run_id", "liquid", "points used", "points total", "T_min [degC]",
@@ -109,7 +109,7 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
     out = Path(out_dir)
     (out / "figures").mkdir(parents=True, exist_ok=True)
     summary = many.summary
-    summary.to_csv(out / "summary.csv", index=False)
+    summary.to_csv(out / "summary.csv", index=False, float_format=CSV_FLOAT)
     ok = summary[summary["status"].fillna("") == ""]
     over = _png(overview_figure(ok))
     (out / "figures" / "overview.png").write_bytes(over)

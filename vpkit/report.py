@@ -13,6 +13,10 @@ from pathlib import Path
 from . import display as D
 from .constants import P_STANDARD
 
+#: CSV numbers: 15 significant digits (all a double holds, without the 17th-digit noise
+#: of unit conversions, e.g. 29.6 rather than 29.600000000000023).
+CSV_FLOAT = "%.15g"
+
 SAFETY_NOTE = (
     "Safety: flammable solvents must be heated on a hot plate or in a water bath, never "
     "near a flame, in a fume hood or a well-ventilated place. Hot baths and hot glass "
@@ -135,7 +139,7 @@ def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None
     paths["points"] = out / f"{stem}_points.csv"
     paths["results"] = out / f"{stem}_results.csv"
     paths["summary"] = out / f"{stem}_summary.md"
-    a.points().to_csv(paths["points"], index=False)
-    a.results().to_csv(paths["results"], index=False)
+    a.points().to_csv(paths["points"], index=False, float_format=CSV_FLOAT)
+    a.results().to_csv(paths["results"], index=False, float_format=CSV_FLOAT)
     paths["summary"].write_text(a.summary(), encoding="utf-8")
     return paths

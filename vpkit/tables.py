@@ -84,8 +84,20 @@ def results_columns(res, rows=None) -> dict:
         "status": ["" if res.errors[i] is None else str(res.errors[i]) for i in idx],
     }
     n = len(idx)
-    return {k: (np.full(n, v, dtype=object) if isinstance(v, str) else v)
-            for k, v in data.items()}
+    out = {k: (np.full(n, v, dtype=object) if isinstance(v, str) else v) for k, v in data.items()}
+    if not ok.all():  # a run that could not be analysed shows what was entered, and why
+        for k in _COMPUTED:
+            col = np.array(out[k], dtype=float)
+            col[~ok] = np.nan
+            out[k] = col
+    return out
+
+
+#: Columns computed by the analysis (blank for runs that could not be analysed).
+_COMPUTED = ("T_min [degC]", "T_max [degC]", "T_m [K]", "n_air [mmol]",
+             "p_vap at air reference [Pa]", "reference ΔH_vap at T_m [kJ/mol]",
+             "reference chord ΔH_vap [kJ/mol]", "reference T_b at 101.325 kPa [degC]",
+             "measured - predicted T_b [K]")
 
 
 #: Columns of :func:`results_table`, in order.

@@ -92,19 +92,13 @@ def _factor(unit: str, kind: str, delta: bool) -> tuple[float, float]:
         )
     si = SI_UNITS[kind]
     if kind == "temperature":
-        if delta:
-            # a temperature difference: degC and K have the same size
-            scale = ureg.Quantity(1.0, _delta_name(name)).to("delta_degC").magnitude
-            return float(scale), 0.0
+        # a temperature difference (an uncertainty) has the size of one degree of the
+        # unit and no offset, whichever spelling of the unit was typed
         zero = ureg.Quantity(0.0, name).to(si).magnitude
         one = ureg.Quantity(1.0, name).to(si).magnitude
-        return float(one - zero), float(zero)
+        return float(one - zero), 0.0 if delta else float(zero)
     scale = ureg.Quantity(1.0, name).to(si).magnitude
     return float(scale), 0.0
-
-
-def _delta_name(name: str) -> str:
-    return {"degC": "delta_degC", "degF": "delta_degF"}.get(name, name)
 
 
 def to_si(value, unit: str, kind: str, *, delta: bool = False):

@@ -5,6 +5,7 @@ needs to find and fix the entry."""
 
 import warnings
 
+import numpy as np
 import pytest
 
 import vpkit
@@ -232,3 +233,38 @@ def test_warnings_can_be_silenced():
     with warnings.catch_warnings():
         warnings.simplefilter("error", VpkitWarning)
         vpkit.analyze(load(BASE), warn=False)
+
+
+def test_uncertainty_in_any_spelling_of_a_temperature_unit():
+    """An uncertainty is a temperature difference: 0.3 in degC, K or 'degree_Celsius'
+    is 0.3 K, 0.3 degF is 0.3 x 5/9 K (ITS-90 degree sizes; common practice)."""
+    for unit, expected in (("degC", 0.3), ("degree_Celsius", 0.3), ("K", 0.3),
+                           ("degF", 0.3 * 5 / 9)):
+        text = sub("room_temperature,21.0,degC,0.3",
+                   f"room_temperature,{21.0 if unit != 'K' else 294.15},{unit},0.3")
+        if unit == "degF":
+            text = sub("room_temperature,21.0,degC,0.3", "room_temperature,69.8,degF,0.3")
+        run = load(text)
+        assert run.to_si().u["T_room"] == pytest.approx(expected, rel=1e-12), unit
+
+
+def test_a_run_that_cannot_be_fitted_shows_no_invented_numbers(tmp_path):
+    """The two-run table of the README: the one-point run keeps its row, its reason and
+    blank results (no '-0' enthalpy, no boiling point at -273 degC)."""
+    table = tmp_path / "two.csv"
+    table.write_text(
+        "run_id,liquid,barometric_pressure [kPa],room_temperature [degC],room_reading [mL],"
+        "mass_before_air [g],mass_after_air [g],bath_temperature [degC],reading [mL],include,"
+        "reason\n"
+        "pair1,ethanol,100.2,21.0,1.85,30.0000,28.4230,25.0,1.993,yes,\n"
+        "pair1,ethanol,100.2,21.0,1.85,30.0000,28.4230,30.0,2.089,yes,\n"
+        "pair2,toluene,100.2,21.5,2.05,31.2000,29.4310,25.0,2.160,yes,\n")
+    from vpkit.batch import analyze_many
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RuntimeWarning)
+        s = analyze_many(table).summary.set_index("run_id")
+    assert "got 1" in s.loc["pair2", "status"]
+    for col in ("ΔH_vap [kJ/mol]", "T_b at 101.325 kPa [degC]", "deviation from reference [u]",
+                "n_air [mmol]"):
+        assert np.isnan(s.loc["pair2", col]), col
