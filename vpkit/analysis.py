@@ -147,7 +147,9 @@ class Analysis:
         si = self.si
         if si.T_boil is None:
             return None
-        return uncertainties.ufloat(si.T_boil, si.u["T_boil"])
+        with warnings.catch_warnings():  # a stated uncertainty of 0 is the user's choice
+            warnings.simplefilter("ignore", UserWarning)
+            return uncertainties.ufloat(si.T_boil, si.u["T_boil"])
 
     def p_vap_correlated(self):
         """Vapor pressures as correlated ``uncertainties`` numbers [Pa]."""

@@ -151,9 +151,13 @@ def analyze_stack(stack: RunStack, choices: Choices | None = None, *, include=No
         Never raises for one run's trouble: ``errors`` says which runs could not
         be analysed and why.
     """
+    with np.errstate(all="ignore"):  # non-finite results are checked and reported, not warned
+        return _analyze_stack(stack, choices or Choices(), include, reasons)
+
+
+def _analyze_stack(stack, choices, include, reasons) -> StackResult:
     from .checks import run_checks
 
-    choices = choices or Choices()
     res = resolve(stack, choices)
     R, N = stack.T.shape
     inc = np.array(stack.include if include is None else include, bool) & stack.mask
@@ -185,7 +189,8 @@ def analyze_stack(stack: RunStack, choices: Choices | None = None, *, include=No
         for r in fit_mode[failed]:
             errors[r] = FitError("no self-consistent vapor pressure at the air reference "
                                  "temperature was found; use vapor_at_air_reference="
-                                 "'reference' or 'neglect'", run_id=stack.run_ids[r])
+                                 "'reference' or 'neglect'",
+                                 run_id=stack.run_ids[r] if R > 1 else None)
     return _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_checks,
                    asked)
 

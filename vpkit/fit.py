@@ -203,6 +203,13 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
         Data sets that cannot be fitted get NaN numbers and the reason in
         ``status``; this function never raises for them.
     """
+    with np.errstate(all="ignore"):  # failures are reported in ``status``, not warned
+        return _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start,
+                          search, influence, chol)
+
+
+def _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start, search,
+               influence, chol) -> StackFit:
     m = model if isinstance(model, Model) else get_model(model)
     if weighting not in WEIGHTINGS:
         raise FitError(f"weighting must be one of {', '.join(WEIGHTINGS)}, got {weighting!r}")

@@ -143,7 +143,7 @@ def solve_fixed_point(G, p0: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np
     if done.all():
         return p1, done
     # bisection in the bracket nearest the start, from a scan of [1 Pa, hi)
-    grid = np.exp(np.linspace(0.0, 1.0, 48)[None, :] * np.log(hi)[:, None])
+    grid = np.exp(np.linspace(0.0, 1.0, 32)[None, :] * np.log(hi)[:, None])
     vals = np.stack([G(grid[:, k]) for k in range(grid.shape[1])], axis=1)
     change = (np.isfinite(vals[:, :-1]) & np.isfinite(vals[:, 1:])
               & (np.sign(vals[:, :-1]) != np.sign(vals[:, 1:])))
@@ -153,7 +153,7 @@ def solve_fixed_point(G, p0: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np
     rows = np.arange(len(p0))
     a, b = grid[rows, k], grid[rows, k + 1]
     ga = vals[rows, k]
-    for _ in range(80):
+    for _ in range(64):
         if not bracket.any():
             break
         mid = 0.5 * (a + b)
@@ -239,7 +239,8 @@ def _fixed_weight_map(stack, res, choices, model, sub, fit, a):
         o = evaluate(layout, setup, layout.nominal, ref)
         with np.errstate(invalid="ignore", divide="ignore"):
             y = np.log(o["p_vap"])
-        th, _ = solve_stack(model, T, y, fit_inc, L, start=start_th, search=False)
+        # from the fit's own parameters, few steps are needed; a diverging step is a NaN
+        th, _ = solve_stack(model, T, y, fit_inc, L, start=start_th, search=False, max_iter=150)
         return np.exp(model.f(o["T_ref"], th)) - pp
 
     return G

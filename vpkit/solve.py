@@ -106,11 +106,11 @@ def _levenberg_marquardt(m, T, y, mask, L, th0, space, max_iter=400):
     return th, conv & np.all(np.isfinite(th), axis=1)
 
 
-def _solve_nonlinear(m, T, y, mask, L, th0, space, starts):
+def _solve_nonlinear(m, T, y, mask, L, th0, space, starts, max_iter=400):
     """LM from each starting point; keep, per data set, the lowest converged cost."""
     best, best_cost, ok = np.array(th0, float), np.full(len(T), np.inf), np.zeros(len(T), bool)
     for start in starts:
-        th, conv = _levenberg_marquardt(m, T, y, mask, L, start, space)
+        th, conv = _levenberg_marquardt(m, T, y, mask, L, start, space, max_iter)
         rw, _ = _whitened(m, T, y, mask, L, th, space)
         cost = np.where(conv, lsq.psum(rw * rw), np.inf)
         better = cost < best_cost
@@ -137,7 +137,7 @@ def _status(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> list[st
 
 
 def solve_stack(model: str | Model, T, y, mask, chol, *, space: str = "ln_p", start=None,
-                search: bool = True) -> tuple[np.ndarray, np.ndarray]:
+                search: bool = True, max_iter: int = 400) -> tuple[np.ndarray, np.ndarray]:
     """The parameters of R data sets for a fixed whitening: the solve inside every fit.
 
     Parameters
@@ -148,6 +148,8 @@ def solve_stack(model: str | Model, T, y, mask, chol, *, space: str = "ln_p", st
         Lower Cholesky factor of the residual covariance (shared, or per set).
     space, start, search
         As for :func:`fit_stack`.
+    max_iter : int
+        Most Levenberg-Marquardt iterations (nonlinear model).
 
     Returns
     -------
@@ -177,7 +179,8 @@ def solve_stack(model: str | Model, T, y, mask, chol, *, space: str = "ln_p", st
     starts = [given] if given is not None and not search else (
         ([] if given is None else [given]) + [m.start(Tsafe[g], ysafe[g], mask[g])])
     Lb = np.broadcast_to(Lg, (len(g),) + Lg.shape[-2:])
-    th[g], conv = _solve_nonlinear(m, Tsafe[g], ysafe[g], mask[g], Lb, starts[0], space, starts)
+    th[g], conv = _solve_nonlinear(m, Tsafe[g], ysafe[g], mask[g], Lb, starts[0], space, starts,
+                                   max_iter)
     ok[g] &= conv
     th[~ok] = np.nan
     return th, ok

@@ -110,6 +110,15 @@ def check(s: RunStack, c: Columns) -> list[tuple[int, InputError]]:
         point_rule(s.T <= 0, "bath_temperature", "temperature",
                    "bath temperature {} is at or below absolute zero",
                    "check the unit in the column header", c.T_unit)
+        # plausibility (common practice, no source): no liquid bath runs above 700 K,
+        # and no graduated tube holds a litre of gas
+        point_rule(s.T > 700.0, "bath_temperature", "temperature",
+                   "bath temperature {} is far above any liquid bath",
+                   "check the value and the unit in the column header", c.T_unit)
+        point_rule(s.reading > 1e-3, "reading", "volume",
+                   "graduation reading {} is larger than any graduated tube",
+                   "check the value and the unit in the column header",
+                   c.reading_unit or [""] * s.R)
         point_rule(s.reading < 0, "reading", "volume", "graduation reading {} is negative",
                    "readings count up from the zero mark; check the sign",
                    c.reading_unit or [""] * s.R)
