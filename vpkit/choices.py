@@ -28,6 +28,7 @@ import numpy as np
 from . import reference as refmod
 from .errors import BadValueError, InputError, Notice, ReferenceRangeWarning
 from .fit import WEIGHTINGS
+from .lsq import readonly
 from .models import MODELS, get_model
 from .reduce import AIR_METHODS, VAPOR_AT_AIR_REFERENCE, ReductionSetup
 from .stack import RunStack
@@ -252,26 +253,20 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
         cold = np.argmin(np.where(stack.mask, stack.T, np.inf), axis=1) if stack.N \
             else np.zeros(R, int)
     setup = ReductionSetup(air_from=air, gas_mass=bool(choices.gas_mass),
-                           direction=_ro(stack.direction),
-                           offset_from_weighing=_ro(~np.isnan(sc["mass_before"])),
-                           cold_index=_ro(cold.astype(int)),
-                           use_head=_ro(np.full(R, bool(choices.use_head)) & ~np.isnan(depth)))
-    density, depth, mode = _ro(density), _ro(depth), _ro(mode)
+                           direction=readonly(stack.direction),
+                           offset_from_weighing=readonly(~np.isnan(sc["mass_before"])),
+                           cold_index=readonly(cold.astype(int)),
+                           use_head=readonly(np.full(R, bool(choices.use_head)) & ~np.isnan(depth)))
+    density, depth, mode = readonly(density), readonly(depth), readonly(mode)
     distinct = tuple(curves)
     return Resolved(density, depth, refmod.CurveSet.from_codes(distinct, own_code),
                     refmod.CurveSet.from_codes(distinct, compare_code), mode, setup,
                     tuple(errors), tuple(tuple(n) for n in notices))
 
 
-def _ro(a):
-    a = np.array(a)
-    a.setflags(write=False)
-    return a
-
-
 def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:
     """The setup of the runs at ``idx`` (per-run arrays indexed)."""
-    pick = lambda v: _ro(np.asarray(v)[idx]) if np.ndim(v) else v  # noqa: E731
+    pick = lambda v: readonly(np.asarray(v)[idx]) if np.ndim(v) else v  # noqa: E731
     return ReductionSetup(setup.air_from, setup.gas_mass, pick(setup.direction),
                           pick(setup.offset_from_weighing), pick(setup.cold_index),
                           pick(setup.use_head))

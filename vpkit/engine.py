@@ -31,6 +31,7 @@ from .choices import AIR_REFERENCE_REASON, Choices, Resolved, resolve
 from .constants import P_STANDARD
 from .errors import FitError, VpkitError
 from .fit import StackFit, fit_stack
+from .lsq import readonly
 from .propagate import (
     InputLayout,
     build_inputs,
@@ -38,12 +39,6 @@ from .propagate import (
 from .reduce import FLAG_TEXT, point_flag_arrays
 from .selfconsistent import _merge, _reduce_and_fit, _self_consistent
 from .stack import RunStack
-
-
-def _ro(a):
-    a = np.asarray(a)
-    a.setflags(write=False)
-    return a
 
 
 @dataclass(frozen=True)
@@ -162,7 +157,7 @@ def _analyze_stack(stack, choices, include, reasons) -> StackResult:
     R, N = stack.T.shape
     inc = np.array(stack.include if include is None else include, bool) & stack.mask
     why = np.array(stack.reason if reasons is None else reasons, dtype=object)
-    asked = (_ro(inc.copy()), why.copy())
+    asked = (readonly(inc.copy()), why.copy())
     setup = res.setup
     rows = np.arange(R)
     if setup.air_from == "cold" and N:
@@ -230,21 +225,22 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
     J_full = out["J"] + out["J_pref"][:, :, None] * out["dp_du"][:, None, :]
     z = _robust_z(T, lnp, fit_inc, u_own)
     bad = np.array([e is not None for e in errors])
-    nan_bad = lambda a: _ro(np.where(bad, np.nan, a))  # noqa: E731
+    ro = readonly
+    nan_bad = lambda a: ro(np.where(bad, np.nan, a))  # noqa: E731
     result = StackResult(
         stack=stack, choices=choices, resolved=res, errors=tuple(errors),
-        V=_ro(nominal["V"]), P_total=_ro(nominal["P_total"]), p_air=_ro(nominal["p_air"]),
-        p_vap=_ro(nominal["p_vap"]), u_p_vap=_ro(u_p), cov_ln_p=_ro(cov_y),
-        n_air=_ro(nominal["n_air"]), p_ref=_ro(out["p_ref"]), T_ref=_ro(nominal["T_ref"]),
-        include=_ro(fit_inc), reasons=_ro(why), requested_include=asked[0],
-        requested_reasons=_ro(asked[1]),
-        point_flags=MappingProxyType({k: _ro(v) for k, v in flags.items()}),
-        layout=layout, jacobian=_ro(J_full), fit=fit, enthalpy=nan_bad(dH),
+        V=ro(nominal["V"]), P_total=ro(nominal["P_total"]), p_air=ro(nominal["p_air"]),
+        p_vap=ro(nominal["p_vap"]), u_p_vap=ro(u_p), cov_ln_p=ro(cov_y),
+        n_air=ro(nominal["n_air"]), p_ref=ro(out["p_ref"]), T_ref=ro(nominal["T_ref"]),
+        include=ro(fit_inc), reasons=ro(why), requested_include=asked[0],
+        requested_reasons=ro(asked[1]),
+        point_flags=MappingProxyType({k: ro(v) for k, v in flags.items()}),
+        layout=layout, jacobian=ro(J_full), fit=fit, enthalpy=nan_bad(dH),
         u_enthalpy=nan_bad(u_dH), T_b_run=nan_bad(Tb_run), u_T_b_run=nan_bad(u_run),
         T_b_normal=nan_bad(Tb_n), u_T_b_normal=nan_bad(u_n), entropy=nan_bad(dS),
-        u_entropy=nan_bad(u_dS), comparison=MappingProxyType({k: _ro(v) for k, v in cmp.items()}),
-        self_consistent_rounds=_ro(sc_rounds), self_consistent_error=_ro(sc_err),
-        robust_z=_ro(z), point_only_u=_ro(u_own))
+        u_entropy=nan_bad(u_dS), comparison=MappingProxyType({k: ro(v) for k, v in cmp.items()}),
+        self_consistent_rounds=ro(sc_rounds), self_consistent_error=ro(sc_err),
+        robust_z=ro(z), point_only_u=ro(u_own))
     object.__setattr__(result, "findings", run_checks(result))
     return result
 

@@ -40,7 +40,7 @@ from . import lsq
 from .constants import P_STANDARD
 from .errors import FitError
 from .fitresult import TROUTON_BAND, TROUTON_HBOND_BAND, FitResult, trouton_verdict  # noqa: F401
-from .lsq import quad
+from .lsq import quad, readonly
 from .models import MODELS, Model, get_model  # noqa: F401  (MODELS re-exported)
 from .solve import (  # noqa: F401  (residual_covariance, solve_stack re-exported)
     _levenberg_marquardt,
@@ -56,12 +56,6 @@ from .solve import (  # noqa: F401  (residual_covariance, solve_stack re-exporte
 WEIGHTINGS = ("ordinary", "weighted", "gls")
 SPACES = ("ln_p", "p")
 
-
-
-def _ro(a):
-    a = np.asarray(a)
-    a.setflags(write=False)
-    return a
 
 
 @dataclass(frozen=True)
@@ -363,10 +357,11 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     for a in (chi2, chi2_red, T_m):
         a[bad] = np.nan
     lev[bad], loo[bad], res[bad], norm[bad] = np.nan, np.nan, np.nan, np.nan
-    return StackFit(m, weighting, space, _ro(th), _ro(cov), _ro(T), _ro(y), _ro(mask),
-                    _ro(res), _ro(norm), _ro(lev), _ro(loo), _ro(chi2), _ro(dof),
-                    _ro(chi2_red), _ro(scaled & good), _ro(T_m), _ro(n), _ro(L),
-                    None if C is None else _ro(C), tuple(status), _ro(ill))
+    ro = readonly
+    return StackFit(m, weighting, space, ro(th), ro(cov), ro(T), ro(y), ro(mask), ro(res),
+                    ro(norm), ro(lev), ro(loo), ro(chi2), ro(dof), ro(chi2_red),
+                    ro(scaled & good), ro(T_m), ro(n), ro(L), None if C is None else ro(C),
+                    tuple(status), ro(ill))
 
 
 def _leave_one_out(m, weighting, space, T, y, mask, L, th, fac, rw, T_m, use):

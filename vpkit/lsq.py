@@ -28,6 +28,13 @@ from __future__ import annotations
 import numpy as np
 
 
+def readonly(a, copy: bool = False) -> np.ndarray:
+    """``a`` as an array that refuses writes (a copy first with ``copy``): results are frozen."""
+    a = np.array(a) if copy else np.asarray(a)
+    a.setflags(write=False)
+    return a
+
+
 def psum(x: np.ndarray, axis: int = -1) -> np.ndarray:
     """Sum along ``axis`` in index order, one element after the other.
 

@@ -26,6 +26,7 @@ import numpy as np
 from . import lsq
 from .choices import Resolved, setup_rows
 from .fit import StackFit, fit_stack, solve_stack
+from .lsq import readonly
 from .propagate import InputLayout, ReferenceAtAir, covariances, evaluate, jacobian
 
 #: Self-consistent air amount: relative tolerance |g(p) - p|/p and most rounds (our
@@ -34,12 +35,6 @@ SELF_CONSISTENT_TOL = 1e-8
 SELF_CONSISTENT_ROUNDS = 30
 #: Passes that make the weights consistent with the dp/du term at one p.
 IMPLICIT_PASSES = 3
-
-
-def _ro(a):
-    a = np.asarray(a)
-    a.setflags(write=False)
-    return a
 
 
 def _rows_layout(layout: InputLayout, idx) -> InputLayout:
@@ -282,7 +277,7 @@ def _merge_fit(cur: dict, keep, nxt: dict) -> dict:
         elif isinstance(old, np.ndarray) and old.ndim and len(old) == len(fit.params):
             arr = np.array(old)
             arr[keep] = upd
-            merged[f.name] = _ro(arr)
+            merged[f.name] = readonly(arr)
         else:
             merged[f.name] = old
     out = dict(cur)

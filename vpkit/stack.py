@@ -28,6 +28,7 @@ from types import MappingProxyType
 import numpy as np
 
 from .errors import InputError, UnitError
+from .lsq import readonly
 from .run import FIELDS, Run
 from .units import to_si
 from .validate import QUANTITY, check, uncertainties
@@ -35,12 +36,6 @@ from .validate import QUANTITY, check, uncertainties
 SCALARS = tuple(QUANTITY)
 U_KEYS = ("T", "reading", "pressure", "P_bar", "T_room", "room_reading", "mass_before",
           "mass_after", "V_injected", "scale_offset", "depth", "T_boil", "density_relative")
-
-
-def _frozen(a: np.ndarray) -> np.ndarray:
-    a = np.asarray(a)
-    a.setflags(write=False)
-    return a
 
 
 @dataclass(frozen=True)
@@ -125,19 +120,19 @@ class RunStack:
 
     @property
     def n_points(self) -> np.ndarray:
-        return _frozen(self.mask.sum(axis=1))
+        return readonly(self.mask.sum(axis=1))
 
     def take(self, index) -> RunStack:
         """The runs at ``index`` (an integer array or boolean mask) as a new stack."""
         idx = np.flatnonzero(index) if np.asarray(index).dtype == bool else np.asarray(index)
         n = int(self.mask[idx].sum(axis=1).max()) if len(idx) else 0
-        pick = lambda a: _frozen(a[idx][:, :n])  # noqa: E731
+        pick = lambda a: readonly(a[idx][:, :n])  # noqa: E731
         return RunStack(
             tuple(self.run_ids[i] for i in idx), tuple(self.liquid[i] for i in idx),
             tuple(self.sources[i] for i in idx), pick(self.T), pick(self.reading),
             pick(self.pressure), pick(self.mask), pick(self.include), pick(self.reason),
             pick(self.rows), _frozen_map({k: v[idx] for k, v in self.scalar.items()}),
-            _frozen(self.direction[idx]), _frozen_map({k: v[idx] for k, v in self.u.items()}),
+            readonly(self.direction[idx]), _frozen_map({k: v[idx] for k, v in self.u.items()}),
             tuple(self.places[i] for i in idx))
 
     def row(self, r: int) -> RunSI:
@@ -222,11 +217,11 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
     mask = pad(np.ones(len(c.run), bool), False, bool)
     rows = pad(c.rows, -1, int)
     stack = RunStack(
-        tuple(c.run_ids), tuple(c.liquid), tuple(c.sources), _frozen(T), _frozen(reading),
-        _frozen(pressure), _frozen(mask), _frozen(pad(c.include, False, bool)),
-        _frozen(pad(c.reason, "", object)), _frozen(rows),
-        MappingProxyType({k: _frozen(np.asarray(c.scalar[k], float)) for k in SCALARS}),
-        _frozen(np.asarray(c.direction, int)), _frozen_map(uncertainties(c)),
+        tuple(c.run_ids), tuple(c.liquid), tuple(c.sources), readonly(T), readonly(reading),
+        readonly(pressure), readonly(mask), readonly(pad(c.include, False, bool)),
+        readonly(pad(c.reason, "", object)), readonly(rows),
+        MappingProxyType({k: readonly(np.asarray(c.scalar[k], float)) for k in SCALARS}),
+        readonly(np.asarray(c.direction, int)), _frozen_map(uncertainties(c)),
         tuple(c.places))
     failures = check(stack, c)
     if failures:
@@ -237,7 +232,7 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
 
 
 def _frozen_map(d: dict[str, np.ndarray]) -> Mapping[str, np.ndarray]:
-    return MappingProxyType({k: _frozen(np.asarray(v, float)) for k, v in d.items()})
+    return MappingProxyType({k: readonly(np.asarray(v, float)) for k, v in d.items()})
 
 
 # ---------------------------------------------------------------------------
