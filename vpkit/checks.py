@@ -68,48 +68,54 @@ def _t(T) -> str:
 
 
 def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
-    """Every finding of every run of ``res`` (a StackResult)."""
-    R, N = res.stack.T.shape
-    out: list[list[Finding]] = [[] for _ in range(R)]
-    lim = res.choices.limits
-    f = res.fit
-    T = res.stack.T
-    mask = res.stack.mask
-    inc = res.include
-    ok = res.ok
+    """Every finding of every run of ``res`` (a StackResult), in a stable order."""
+    out: list[list[Finding]] = [[] for _ in range(res.R)]
 
     def add(hits, flag, category, text):
-        for r in np.flatnonzero(np.asarray(hits, bool) & ok):
+        for r in np.flatnonzero(np.asarray(hits, bool) & res.ok):
             out[int(r)].append(Finding(flag, category, text(int(r))))
 
-    # the fit and the data
+    with np.errstate(invalid="ignore", divide="ignore"):
+        span = _data_checks(res, add, out)
+        _point_checks(res, out)
+        _reference_checks(res, add, out, span)
+        _fit_checks(res, add)
+    return tuple(tuple(x) for x in out)
+
+
+def _data_checks(res, add, out) -> np.ndarray:
+    """Conditioning, number and span of points, duplicated temperatures."""
+    lim, f, T, inc = res.choices.limits, res.fit, res.stack.T, res.include
+    N = T.shape[1]
     add(f.ill_conditioned, "ill-conditioned", IllConditionedWarning, lambda r: (
         f"{f.model.label} is ill-conditioned for {int(f.n[r])} points over "
         f"{_span(T[r], inc[r]):.0f} K ({f.curvature_text(r)}): the data do not fix the "
         "curvature, so extrapolations (boiling points) are unsafe; prefer "
         "Clausius–Clapeyron, or widen the range"))
-    with np.errstate(invalid="ignore"):
-        span = np.nanmax(np.where(inc, T, -np.inf), 1) - np.nanmin(np.where(inc, T, np.inf), 1)
+    span = np.max(np.where(inc, T, -np.inf), 1) - np.min(np.where(inc, T, np.inf), 1)
     add(f.n < lim["min_points"], "few points", IllConditionedWarning, lambda r: (
         f"only {int(f.n[r])} points used (fewer than {lim['min_points']:g})"))
     add(span < lim["min_range_K"], "narrow range", IllConditionedWarning, lambda r: (
         f"temperature range of the points used is {span[r]:.1f} K (below "
         f"{lim['min_range_K']:g} K): the slope is poorly fixed"))
-    rounded = np.round(np.where(mask, T, np.nan), 2)
-    with np.errstate(invalid="ignore"):
-        dup = (rounded[:, :, None] == rounded[:, None, :]) & np.tri(N, k=-1, dtype=bool).T[None]
-    for r, i, j in zip(*np.nonzero(dup & ok[:, None, None])):
+    rounded = np.round(np.where(res.stack.mask, T, np.nan), 2)
+    dup = (rounded[:, :, None] == rounded[:, None, :]) & np.tri(N, k=-1, dtype=bool).T[None]
+    for r, i, j in zip(*np.nonzero(dup & res.ok[:, None, None])):
         if dup[r, :i, j].any():
             continue  # only the first earlier twin is named
         out[r].append(Finding("duplicate temperature", SuspectPointWarning, (
             f"points {i} and {j} have the same bath temperature ({_t(T[r, j])}): fine for "
             "repeated readings, but check for a copied row")))
-    # points: impossible or suspect (shown, never dropped silently)
-    pf = res.point_flags
-    any_flag = np.zeros((R, N), bool)
+    return span
+
+
+def _point_checks(res, out) -> None:
+    """Impossible or suspect points (shown, never dropped silently) and robust outliers."""
+    T, inc, pf = res.stack.T, res.include, res.point_flags
+    any_flag = np.zeros(T.shape, bool)
     for k in FLAG_TEXT:
         any_flag |= pf[k]
-    for r, i in zip(*np.nonzero(any_flag & ok[:, None])):
+    for r, i in zip(*np.nonzero(any_flag & res.ok[:, None])):
         texts = [_flag_text(res, k, r, i) for k in FLAG_TEXT if pf[k][r, i]]
         impossible = any(pf[k][r, i] for k in _IMPOSSIBLE)
         state = "excluded" if not inc[r, i] else "still included"
@@ -118,14 +124,16 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
         out[r].append(Finding(flag, ImpossiblePointWarning if impossible else
                               SuspectPointWarning,
                               f"point {i} ({_t(T[r, i])}), {state}: " + "; ".join(texts)))
-    with np.errstate(invalid="ignore"):
-        suspect = np.abs(res.robust_z) > lim["suspect_u"]
-    for r, i in zip(*np.nonzero(suspect & ok[:, None])):
+    suspect = np.abs(res.robust_z) > res.choices.limits["suspect_u"]
+    for r, i in zip(*np.nonzero(suspect & res.ok[:, None])):
         out[r].append(Finding("suspect point", SuspectPointWarning, (
             f"point {i} ({_t(T[r, i])}) lies {abs(res.robust_z[r, i]):.1f} of its own standard "
             "uncertainties off a robust line through the other points: suspect (not excluded)")))
-    # reference and notes from the choices
-    cmp = res.comparison
+
+
+def _reference_checks(res, add, out, span) -> None:
+    """The reference's range, the choices' notes, deviation, boiling-point gap, extrapolation."""
+    lim, cmp, ok = res.choices.limits, res.comparison, res.ok
     n_out = cmp["outside"].sum(axis=1)
     for r in np.flatnonzero(ok & (n_out > 0)):
         out[r].append(Finding("outside reference range", ReferenceRangeWarning,
@@ -133,14 +141,10 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
     for r in np.flatnonzero(ok):
         for note in res.resolved.notices[r]:
             out[r].append(Finding("", note.category, str(note)))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        dev_u = (res.enthalpy - cmp["enthalpy"]) / res.u_enthalpy
-        dev_pct = 100 * (res.enthalpy / cmp["enthalpy"] - 1)
-        gap = res.stack.scalar["T_boil"] - res.T_b_run
-        T_max = np.nanmax(np.where(inc, T, -np.inf), axis=1)
-        beyond = res.T_b_normal - T_max
-        shift = np.nanmax(np.abs(f.loo_enthalpy - res.enthalpy[:, None]), axis=1,
-                          initial=0.0, where=np.isfinite(f.loo_enthalpy))
+    dev_u = (res.enthalpy - cmp["enthalpy"]) / res.u_enthalpy
+    dev_pct = 100 * (res.enthalpy / cmp["enthalpy"] - 1)
+    gap = res.stack.scalar["T_boil"] - res.T_b_run
+    beyond = res.T_b_normal - np.max(np.where(res.include, res.stack.T, -np.inf), axis=1)
     add(np.abs(dev_u) > lim["max_deviation_u"], "off reference", ReferenceDeviationWarning,
         lambda r: (f"ΔH_vap differs from the reference ({res.resolved.compare_curve[r].label}) "
                    f"by {dev_u[r]:+.1f} u ({dev_pct[r]:+.1f} %), more than "
@@ -152,6 +156,13 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
         ExtrapolationWarning, lambda r: (
             f"the normal boiling point ({_t(res.T_b_normal[r])}) lies {beyond[r]:.0f} K beyond "
             "the highest point: an extrapolation"))
+
+
+def _fit_checks(res, add) -> None:
+    """Influential points, scatter against χ², the self-consistent solve."""
+    lim, f = res.choices.limits, res.fit
+    shift = np.nanmax(np.abs(f.loo_enthalpy - res.enthalpy[:, None]), axis=1,
+                      initial=0.0, where=np.isfinite(f.loo_enthalpy))
     add(shift > lim["max_influence_u"] * res.u_enthalpy, "influential point",
         SuspectPointWarning, lambda r: (
             f"leaving point {int(np.nanargmax(np.abs(f.loo_enthalpy[r] - res.enthalpy[r])))} out "
@@ -163,13 +174,10 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
         f"χ² = {f.chi2[r]:.1f} for {int(dof[r])} degrees of freedom is above its "
         f"{100 * lim['scatter_percentile']:g}th percentile ({chi_lim[r]:.1f}): scatter larger "
         "than the stated uncertainties"))
-    with np.errstate(invalid="ignore"):
-        not_sc = (res.self_consistent_rounds > 0) & ~(
-            res.self_consistent_error <= SELF_CONSISTENT_TOL)
+    not_sc = (res.self_consistent_rounds > 0) & ~(res.self_consistent_error <= SELF_CONSISTENT_TOL)
     add(not_sc, "not self-consistent", ConvergenceWarning, lambda r: (
         "the self-consistent p_vap at the air reference did not converge: relative mismatch "
         f"{res.self_consistent_error[r]:.1e} after {int(res.self_consistent_rounds[r])} rounds"))
-    return tuple(tuple(x) for x in out)
 
 
 def _span(T, inc) -> float:

@@ -155,26 +155,52 @@ class Resolved:
     layout: object = None
 
 
+class _Failures:
+    """The first error of each run (a run fails once, on its first problem)."""
+
+    def __init__(self, R: int) -> None:
+        self.errors: list[InputError | None] = [None] * R
+
+    def __call__(self, r: int, exc: InputError) -> None:
+        if self.errors[r] is None:
+            self.errors[r] = exc
+
+
 def resolve(stack: RunStack, choices: Choices) -> Resolved:
     """Give every choice its meaning for each run of ``stack`` (see the module docstring)."""
     R = stack.R
-    sc = stack.scalar
-    errors: list[InputError | None] = [None] * R
+    fail = _Failures(R)
     notices: list[list[Notice]] = [[] for _ in range(R)]
+    curves, own_code, compare_code = _curves(stack, choices, fail, notices)
+    density = _density(stack, fail)
+    depth = (np.full(R, float(choices.bubble_depth)) if choices.bubble_depth is not None
+             else np.array(stack.scalar["depth"], float))
+    mode = _vapor_mode(stack, choices, own_code >= 0, fail)
+    cold = _cold_index(stack, choices, fail)
+    setup = ReductionSetup(air_from=choices.air_from, gas_mass=bool(choices.gas_mass),
+                           direction=readonly(stack.direction),
+                           offset_from_weighing=readonly(~np.isnan(stack.scalar["mass_before"])),
+                           cold_index=readonly(cold.astype(int)),
+                           use_head=readonly(np.full(R, bool(choices.use_head))
+                                             & ~np.isnan(depth)))
+    return Resolved(readonly(density), readonly(depth),
+                    refmod.CurveSet.from_codes(curves, own_code),
+                    refmod.CurveSet.from_codes(curves, compare_code), readonly(mode), setup,
+                    tuple(fail.errors), tuple(tuple(n) for n in notices))
 
-    def fail(r, exc):
-        if errors[r] is None:
-            errors[r] = exc
 
+def _curves(stack, choices, fail, notices):
+    """Each run's own published curve and the curve it is compared with (one decision per
+    liquid): the distinct curves and each run's index into them (-1: none)."""
+    R = stack.R
     liquids = np.asarray(stack.liquid, dtype=object)
     has = {liq: refmod.has_reference(liq) for liq in set(stack.liquid)}
     is_water = lambda liq: refmod.canonical_name(liq) == "water"  # noqa: E731
     source = choices.reference or "auto"
-    curves: dict = {}  # distinct curves -> index
-    own_code = np.full(R, -1)
-    compare_code = np.full(R, -1)
+    curves: dict = {}
+    own_code, compare_code = np.full(R, -1), np.full(R, -1)
     code = lambda c: -1 if c is None else curves.setdefault(c, len(curves))  # noqa: E731
-    for liquid in has:  # one decision per liquid, shared by its runs
+    for liquid in has:
         rows = np.flatnonzero(liquids == liquid)
         mine = None if not has[liquid] else refmod.reference_curve(
             liquid, source if source != "iapws95" or is_water(liquid) else "antoine")
@@ -200,13 +226,19 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                 notices[r].append(note)
             if error is not None:
                 fail(r, error)
-    # density: the run's own, or the reference value at the room temperature
+    return tuple(curves), own_code, compare_code
+
+
+def _density(stack, fail) -> np.ndarray:
+    """The run's own liquid density, or the reference value at the room temperature."""
+    sc = stack.scalar
     density = np.array(sc["density"], float)
-    for liquid in has:
+    liquids = np.asarray(stack.liquid, dtype=object)
+    for liquid in set(stack.liquid):
         sel = np.flatnonzero(np.isnan(density) & (liquids == liquid))
         if not sel.size:
             continue
-        if not has[liquid]:
+        if not refmod.has_reference(liquid):
             for r in sel:
                 fail(r, InputError(f"liquid_density is 'reference' but {liquid!r} has no "
                                    "bundled density", **stack.place(r, "liquid_density"),
@@ -218,50 +250,46 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
             for r in sel:
                 fail(r, InputError(exc.message, **stack.place(r, "liquid_density"),
                                    hint=exc.hint))
-    depth = (np.full(R, float(choices.bubble_depth)) if choices.bubble_depth is not None
-             else np.array(sc["depth"], float))
-    # the air amount and p_vap at the air reference
-    air = choices.air_from
+    return density
+
+
+def _vapor_mode(stack, choices, with_curve, fail) -> np.ndarray:
+    """How p_vap at the air reference is taken per run, and what each air method needs."""
+    R, sc = stack.R, stack.scalar
     vap = choices.vapor_at_air_reference
-    if air == "injected":
-        mode = np.full(R, "none", dtype=object)
+    if choices.air_from == "injected":
         for r in np.flatnonzero(np.isnan(sc["V_injected"])):
             fail(r, InputError("air_from='injected' needs injected_air_volume",
                                **stack.place(r, "injected_air_volume"),
                                hint="add it, or use air_from='weighed'"))
-    else:
-        with_curve = own_code >= 0
-        mode = np.where(with_curve, "reference", "fit").astype(object) if vap == "auto" \
-            else np.full(R, vap, dtype=object)
-        if vap == "reference":
-            for r in np.flatnonzero(~with_curve):
-                fail(r, InputError("vapor_at_air_reference='reference' needs a reference "
-                                   f"equation, and {stack.liquid[r]!r} has none",
-                                   **stack.place(r, "liquid"), hint="use 'fit' or 'neglect'"))
-        if air == "weighed":
-            for r in np.flatnonzero(np.isnan(sc["room_reading"])):
-                fail(r, InputError("air_from='weighed' needs room_reading",
-                                   **stack.place(r, "room_reading"),
-                                   hint="add the reading taken at the weighing"))
-    if choices.cold_index is not None:
-        n = stack.n_points
-        for r in np.flatnonzero((choices.cold_index < 0) | (choices.cold_index >= n)):
-            fail(r, BadValueError(f"cold_index {choices.cold_index} is not a point of the run "
-                                  f"(0 to {n[r] - 1})", column="cold_index"))
-        cold = np.clip(np.full(R, int(choices.cold_index)), 0, max(stack.N - 1, 0))
-    else:
-        cold = np.argmin(np.where(stack.mask, stack.T, np.inf), axis=1) if stack.N \
-            else np.zeros(R, int)
-    setup = ReductionSetup(air_from=air, gas_mass=bool(choices.gas_mass),
-                           direction=readonly(stack.direction),
-                           offset_from_weighing=readonly(~np.isnan(sc["mass_before"])),
-                           cold_index=readonly(cold.astype(int)),
-                           use_head=readonly(np.full(R, bool(choices.use_head)) & ~np.isnan(depth)))
-    density, depth, mode = readonly(density), readonly(depth), readonly(mode)
-    distinct = tuple(curves)
-    return Resolved(density, depth, refmod.CurveSet.from_codes(distinct, own_code),
-                    refmod.CurveSet.from_codes(distinct, compare_code), mode, setup,
-                    tuple(errors), tuple(tuple(n) for n in notices))
+        return np.full(R, "none", dtype=object)
+    mode = (np.where(with_curve, "reference", "fit").astype(object) if vap == "auto"
+            else np.full(R, vap, dtype=object))
+    if vap == "reference":
+        for r in np.flatnonzero(~with_curve):
+            fail(r, InputError("vapor_at_air_reference='reference' needs a reference "
+                               f"equation, and {stack.liquid[r]!r} has none",
+                               **stack.place(r, "liquid"), hint="use 'fit' or 'neglect'"))
+    if choices.air_from == "weighed":
+        for r in np.flatnonzero(np.isnan(sc["room_reading"])):
+            fail(r, InputError("air_from='weighed' needs room_reading",
+                               **stack.place(r, "room_reading"),
+                               hint="add the reading taken at the weighing"))
+    return mode
+
+
+def _cold_index(stack, choices, fail) -> np.ndarray:
+    """The cold reference reading of each run: the one asked for, or the coldest."""
+    R = stack.R
+    if choices.cold_index is None:
+        if not stack.N:
+            return np.zeros(R, int)
+        return np.argmin(np.where(stack.mask, stack.T, np.inf), axis=1)
+    n = stack.n_points
+    for r in np.flatnonzero((choices.cold_index < 0) | (choices.cold_index >= n)):
+        fail(r, BadValueError(f"cold_index {choices.cold_index} is not a point of the run "
+                              f"(0 to {n[r] - 1})", column="cold_index"))
+    return np.clip(np.full(R, int(choices.cold_index)), 0, max(stack.N - 1, 0))
 
 
 def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:

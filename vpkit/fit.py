@@ -202,6 +202,16 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
                           search, influence, chol)
 
 
+NOT_PD = ("the covariance of the points is not positive definite (a point with zero or "
+          "undefined uncertainty?)")
+
+
+def _not_converged(m: Model) -> str:
+    return (f"the {m.label} fit did not converge (the data may not fix its curvature: the "
+            "parameters run off towards a straight line); prefer Clausius–Clapeyron or "
+            "constant ΔCp, or widen the temperature range")
+
+
 def _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start, search,
                influence, chol) -> StackFit:
     m = model if isinstance(model, Model) else get_model(model)
@@ -209,88 +219,102 @@ def _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start,
         raise FitError(f"weighting must be one of {', '.join(WEIGHTINGS)}, got {weighting!r}")
     if space not in SPACES:
         raise FitError(f"space must be one of {', '.join(SPACES)}, got {space!r}")
+    if weighting != "ordinary" and cov_y is None and chol is None:
+        raise FitError(f"weighting={weighting!r} needs the covariance of the points")
     T = np.atleast_2d(np.asarray(T, float))
     y = np.atleast_2d(np.asarray(y, float))
     mask = np.ones(T.shape, bool) if mask is None else np.atleast_2d(np.asarray(mask, bool))
     mask = mask & np.isfinite(T)
-    if weighting != "ordinary" and cov_y is None and chol is None:
-        raise FitError(f"weighting={weighting!r} needs the covariance of the points")
     Rn, N = T.shape
-    p = m.n_params
-    n = mask.sum(axis=1)
-    status = _status(m, n, y, mask)
+    status = _status(m, mask.sum(axis=1), y, mask)
     good = np.array([s == "" for s in status])
     Tsafe = np.where(mask, T, 300.0)
     ysafe = np.where(mask & np.isfinite(y), y, 0.0)
-    eye = np.broadcast_to(np.eye(N), (Rn, N, N))
-    if chol is not None:
-        L = np.array(np.broadcast_to(np.asarray(chol, float), (Rn, N, N)))
-    else:
-        L = np.array(eye)
-    # start: ordinary least squares (linear models) or the profile over C
+    L = (np.array(np.broadcast_to(np.asarray(chol, float), (Rn, N, N))) if chol is not None
+         else np.array(np.broadcast_to(np.eye(N), (Rn, N, N))))
+    th, starts = _starting_values(m, Tsafe, ysafe, mask, good, start, search)
+    covs = None if (weighting == "ordinary" or chol is not None) else (cov_y, cov_yT, cov_T)
+    C, last = _effective_variance(m, weighting, space, covs, Tsafe, ysafe, mask, th, L,
+                                  starts, status, good)
+    reuse = last if (m.linear and space == "ln_p") else None
+    return _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
+                   reuse)
+
+
+def _starting_values(m, Tsafe, ysafe, mask, good, start, search):
+    """Ordinary least squares (linear models) or the profile over C (and a given start)."""
+    Rn, p = len(Tsafe), m.n_params
     th = np.full((Rn, p), np.nan)
     g = np.flatnonzero(good)
     starts = []
-    if g.size:
-        if m.linear:
-            th[g] = _solve_linear(m, Tsafe[g], ysafe[g], mask[g], eye[g])
-        else:
-            given = None if start is None else np.broadcast_to(np.asarray(start, float),
-                                                               (Rn, p))[g]
-            if given is not None and not search:
-                starts = [given]
-            else:
-                prof = m.start(Tsafe[g], ysafe[g], mask[g])
-                starts = [prof] if given is None else [given, prof]
-            th[g] = starts[0]
+    if not g.size:
+        return th, starts
+    if m.linear:
+        th[g] = _solve_linear(m, Tsafe[g], ysafe[g], mask[g], np.eye(Tsafe.shape[1]))
+        return th, starts
+    given = None if start is None else np.broadcast_to(np.asarray(start, float), (Rn, p))[g]
+    if given is not None and not search:
+        starts = [given]
+    else:
+        prof = m.start(Tsafe[g], ysafe[g], mask[g])
+        starts = [prof] if given is None else [given, prof]
+    th[g] = starts[0]
+    return th, [(g, s) for s in starts]
+
+
+def _effective_variance(m, weighting, space, covs, Tsafe, ysafe, mask, th, L, starts, status,
+                        good):
+    """Rounds of weights from the current θ and a solve, until θ is stable (4 at most).
+
+    Updates ``th``, ``L``, ``status`` and ``good`` in place; returns the residual
+    covariance (None without weights) and the last linear factorisation of each set.
+    """
+    Rn, N = Tsafe.shape
+    p = m.n_params
+    last = {"Xw": np.zeros((Rn, N, p)), "yw": np.zeros((Rn, N)), "Q": np.zeros((Rn, N, p)),
+            "R": np.broadcast_to(np.eye(p), (Rn, p, p)).copy(), "rank_ok": np.zeros(Rn, bool)}
     C = None
-    rounds = 4 if (weighting != "ordinary" and chol is None) else 1
     active = good.copy()
-    p_ = m.n_params
-    last = {"Xw": np.zeros((Rn, N, p_)), "yw": np.zeros((Rn, N)), "Q": np.zeros((Rn, N, p_)),
-            "R": np.broadcast_to(np.eye(p_), (Rn, p_, p_)).copy(), "rank_ok": np.zeros(Rn, bool)}
-    for it in range(rounds):
+    for it in range(4 if covs is not None else 1):
         a = np.flatnonzero(active)
         if a.size == 0:
             break
-        if weighting != "ordinary" and chol is None:
-            Ca = residual_covariance(
-                np.asarray(cov_y, float)[a], None if cov_yT is None else np.asarray(cov_yT)[a],
-                None if cov_T is None else np.asarray(cov_T)[a],
-                np.where(mask[a], m.df_dT(Tsafe[a], th[a]), 0.0))
-            if space == "p":
-                e = np.exp(m.f(Tsafe[a], th[a]))
-                Ca = Ca * e[..., :, None] * e[..., None, :]
-            if weighting == "weighted":
-                Ca = Ca * np.eye(N)
-            if C is None:
-                C = np.array(eye)
+        if covs is not None:
+            Ca = _round_covariance(m, weighting, space, covs, Tsafe[a], th[a], mask[a], a)
+            C = np.array(np.broadcast_to(np.eye(N), (Rn, N, N))) if C is None else C
             C[a] = Ca
             L[a], okL = lsq.cholesky(lsq.masked_cov(Ca, mask[a]))
             for r in a[~okL]:
-                status[r] = ("the covariance of the points is not positive definite "
-                             "(a point with zero or undefined uncertainty?)")
-                good[r] = active[r] = False
+                status[r], good[r], active[r] = NOT_PD, False, False
             a = a[okL]
         if m.linear and space == "ln_p":
             new = _solve_linear(m, Tsafe[a], ysafe[a], mask[a], L[a], last, a)
             conv = np.ones(len(a), bool)
         else:
-            trial = [th[a]] if it else [s[np.searchsorted(g, a)] for s in starts]
+            trial = [th[a]] if it else [s[np.searchsorted(g, a)] for g, s in starts]
             new, conv = _solve_nonlinear(m, Tsafe[a], ysafe[a], mask[a], L[a], th[a], space,
                                          trial)
         for r in a[~conv]:
-            status[r] = (f"the {m.label} fit did not converge (the data may not fix its "
-                         "curvature: the parameters run off towards a straight line); prefer "
-                         "Clausius–Clapeyron or constant ΔCp, or widen the temperature range")
-            good[r] = active[r] = False
-        with np.errstate(all="ignore"):
-            change = np.max(np.abs(new - th[a]) / np.maximum(np.abs(th[a]), 1e-300), axis=1)
+            status[r], good[r], active[r] = _not_converged(m), False, False
+        change = np.max(np.abs(new - th[a]) / np.maximum(np.abs(th[a]), 1e-300), axis=1)
         th[a] = new
         active[a] = conv & ~(change < 1e-13)
-    reuse = last if (m.linear and space == "ln_p") else None
-    return _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
-                   reuse)
+    return C, last
+
+
+def _round_covariance(m, weighting, space, covs, T, th, mask, a):
+    """Residual covariance of the sets ``a`` at their current parameters (effective variance)."""
+    cov_y, cov_yT, cov_T = covs
+    C = residual_covariance(np.asarray(cov_y, float)[a],
+                            None if cov_yT is None else np.asarray(cov_yT)[a],
+                            None if cov_T is None else np.asarray(cov_T)[a],
+                            np.where(mask, m.df_dT(T, th), 0.0))
+    if space == "p":
+        e = np.exp(m.f(T, th))
+        C = C * e[..., :, None] * e[..., None, :]
+    if weighting == "weighted":
+        C = C * np.eye(T.shape[-1])
+    return C
 
 
 def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,

@@ -81,136 +81,145 @@ def stack_table(table: pd.DataFrame, *, source: str | None = None
     Errors of the whole table (an unknown column, a missing readings column, a
     bad unit in a header) raise; a bad cell only fails its own run.
     """
-    source = source or table.attrs.get("source", "<table>")
-    lines = _lines(table)
-    t = table.reset_index(drop=True)
-    if "run_id" not in t.columns:
-        raise RunFileError("the table has no run_id column", file=source, column="run_id",
-                           hint="add a run_id column naming the run of each reading, or "
-                           "give a single run file")
-    cols: dict[str, str] = {}
-    known = set(FIELDS) | set(READING_NAMES) | {"run_id"}
-    for col in t.columns:
-        name, _ = split_header(col)
-        base = name[2:-1] if name.startswith("u(") and name.endswith(")") else name
-        if name != "u_rel(liquid_density)" and base not in known:
-            raise RunFileError(f"unknown column {col!r}", file=source, row=1, column=str(col),
-                               hint="columns are run_id, the run-file quantities and the "
-                               "readings columns, with units in brackets")
-        if name in cols:
-            raise RunFileError(f"column {name!r} appears twice", file=source, row=1,
-                               column=str(col), hint="keep one of them")
-        cols[name] = col
-    for name in ("bath_temperature", "reading"):
-        if name not in cols:
-            raise RunFileError(f"the table has no {name!r} column", file=source, row=1,
-                               column=name, hint=f"add '{name} [UNIT]'")
-    codes, run_ids = pd.factorize(t["run_id"].astype(str).to_numpy())
-    order = np.argsort(codes, kind="stable")
-    R = len(run_ids)
-    run = codes[order]
-    counts = np.bincount(codes, minlength=R)
-    first = np.concatenate([[0], np.cumsum(counts)[:-1]]).astype(int)
-    row_of = lines[order]
-    fail: dict[int, InputError] = {}
+    reader = _TableReader(table, source or table.attrs.get("source", "<table>"))
+    stack, bad = assemble(reader.columns())
+    failures = dict(bad)
+    failures.update(reader.fail)  # a bad cell is the more precise reason
+    if reader.fail:
+        bad_ids = {str(reader.run_ids[r]) for r in reader.fail}
+        stack = stack.take(np.array([i for i, rid in enumerate(stack.run_ids)
+                                     if rid not in bad_ids], int))
+    return stack, [(str(reader.run_ids[r]), failures[r]) for r in sorted(failures)]
 
-    def bad_cells(bad, col, text, hint):
+
+class _TableReader:
+    """Column-wise conversion of a long table, rows sorted by run (array code)."""
+
+    def __init__(self, table: pd.DataFrame, source: str) -> None:
+        self.source = source
+        lines = _lines(table)
+        self.t = t = table.reset_index(drop=True)
+        if "run_id" not in t.columns:
+            raise RunFileError("the table has no run_id column", file=source, column="run_id",
+                               hint="add a run_id column naming the run of each reading, or "
+                               "give a single run file")
+        self.cols = self._known_columns()
+        codes, self.run_ids = pd.factorize(t["run_id"].astype(str).to_numpy())
+        self.order = np.argsort(codes, kind="stable")
+        self.R = len(self.run_ids)
+        self.run = codes[self.order]
+        self.counts = np.bincount(codes, minlength=self.R)
+        self.first = np.concatenate([[0], np.cumsum(self.counts)[:-1]]).astype(int)
+        self.row_of = lines[self.order]
+        self.fail: dict[int, InputError] = {}
+
+    def _known_columns(self) -> dict[str, str]:
+        cols: dict[str, str] = {}
+        known = set(FIELDS) | set(READING_NAMES) | {"run_id"}
+        for col in self.t.columns:
+            name, _ = split_header(col)
+            base = name[2:-1] if name.startswith("u(") and name.endswith(")") else name
+            if name != "u_rel(liquid_density)" and base not in known:
+                raise RunFileError(f"unknown column {col!r}", file=self.source, row=1,
+                                   column=str(col), hint="columns are run_id, the run-file "
+                                   "quantities and the readings columns, with units in brackets")
+            if name in cols:
+                raise RunFileError(f"column {name!r} appears twice", file=self.source, row=1,
+                                   column=str(col), hint="keep one of them")
+            cols[name] = col
+        for name in ("bath_temperature", "reading"):
+            if name not in cols:
+                raise RunFileError(f"the table has no {name!r} column", file=self.source,
+                                   row=1, column=name, hint=f"add '{name} [UNIT]'")
+        return cols
+
+    def bad_cells(self, bad, col, text, hint) -> None:
         for k in np.flatnonzero(bad):
-            r = int(run[k])
-            if r not in fail:
-                fail[r] = BadValueError(text(k), file=source, row=int(row_of[k]),
-                                        column=str(col), hint=hint)
+            r = int(self.run[k])
+            if r not in self.fail:
+                self.fail[r] = BadValueError(text(k), file=self.source, row=int(self.row_of[k]),
+                                             column=str(col), hint=hint)
 
-    def numeric(col, kind, delta=False, allow_text=()):
-        raw = t[col].to_numpy()[order]
+    def numeric(self, col, kind, delta=False, allow_text=()) -> np.ndarray:
+        """A column as SI numbers (NaN where empty); a bad cell fails its run."""
+        raw = self.t[col].to_numpy()[self.order]
         if raw.dtype.kind in "fiu":
             values = raw.astype(float)
         else:
             values = pd.to_numeric(pd.Series(raw), errors="coerce").to_numpy(float)
             text = pd.Series(raw).astype(str).str.strip().str.lower().to_numpy()
             bad = pd.notna(raw) & np.isnan(values) & ~np.isin(text, ("", "nan") + allow_text)
-            bad_cells(bad, col, lambda k: f"{raw[k]!r} is not a number",
-                      "enter a plain number; put the unit in the column header")
+            self.bad_cells(bad, col, lambda k: f"{raw[k]!r} is not a number",
+                           "enter a plain number; put the unit in the column header")
         if kind is None:
             return values
-        _, unit = split_header(col)
+        name, unit = split_header(col)
         if not unit:
-            raise UnitError(f"column {col!r} has no unit", file=source, row=1, column=str(col),
-                            hint=f"write it as '{split_header(col)[0]} [UNIT]'")
+            raise UnitError(f"column {col!r} has no unit", file=self.source, row=1,
+                            column=str(col), hint=f"write it as '{name} [UNIT]'")
         try:
             check_unit(unit, kind)
         except UnitError as exc:
-            raise UnitError(f"column {col!r}: {exc.message}", file=source, row=1,
+            raise UnitError(f"column {col!r}: {exc.message}", file=self.source, row=1,
                             column=str(col), hint=exc.hint) from exc
         return to_si(values, unit, kind, delta=delta)
 
-    def per_run(values, col):
-        v = np.asarray(values)[first] if R else np.asarray(values)[:0]
-        rep = np.repeat(v, counts)
+    def per_run(self, values, col) -> np.ndarray:
+        """One value per run; a run whose rows disagree fails."""
+        v = np.asarray(values)[self.first] if self.R else np.asarray(values)[:0]
+        rep = np.repeat(v, self.counts)
         same = (np.asarray(values) == rep) | (pd.isna(values) & pd.isna(rep))
-        bad_cells(~same, col, lambda k: f"{col} differs within run {run_ids[run[k]]!r}",
-                  "metadata must be the same on every row of a run")
+        self.bad_cells(~same, col, lambda k: f"{col} differs within run "
+                       f"{self.run_ids[self.run[k]]!r}",
+                       "metadata must be the same on every row of a run")
         return v
 
-    point = {}
-    for name, (key, kind) in _POINT.items():
-        if name in cols:
-            point[key] = numeric(cols[name], kind)
-        else:
-            point[key] = np.full(len(t), np.nan)
-    for name in ("bath_temperature", "reading"):
-        bad_cells(np.isnan(point[_POINT[name][0]]), cols[name],
-                  lambda k, n=name: f"missing {n}", "enter the value or delete the row")
-    scalar, given = {}, {}
-    for key, name in QUANTITY.items():
-        if name in cols:
-            allow = ("reference",) if name == "liquid_density" else ()
-            scalar[key] = per_run(numeric(cols[name], FIELDS[name][0], allow_text=allow),
-                                  cols[name])
-        else:
-            scalar[key] = np.full(R, np.nan)
-    for name, key in _U_OF.items():
-        ucol = cols.get(f"u({name})")
-        kind = _POINT[name][1] if name in _POINT else FIELDS[name][0]
-        given[key] = (per_run(numeric(ucol, kind, delta=True), ucol) if ucol is not None
-                      else np.full(R, np.nan))
-    given["density"] = (per_run(numeric(cols["u(liquid_density)"], "density", delta=True),
-                                cols["u(liquid_density)"]) if "u(liquid_density)" in cols
-                        else np.full(R, np.nan))
-    rel = cols.get("u_rel(liquid_density)")
-    given["density_relative"] = (per_run(numeric(rel, None), rel) if rel is not None
-                                 else np.full(R, np.nan))
-    text = lambda name, default: (  # noqa: E731
-        t[cols[name]].fillna("").astype(str).str.strip().to_numpy()[order]
-        if name in cols else np.full(len(t), default, dtype=object))
-    liquid = per_run(text("liquid", ""), "liquid")
-    grad = per_run(text("graduated_from", ""), "graduated_from")
-    flag_text = np.char.lower(text("include", "yes").astype(str))
-    bad_cells(~np.isin(flag_text, list(_TRUE | _FALSE)), cols.get("include", "include"),
-              lambda k: f"include flag {flag_text[k]!r} is not yes or no",
-              "write yes or no (empty means yes)")
-    include = np.isin(flag_text, list(_TRUE))
-    reason = text("reason", "").astype(object)
-    T_unit = split_header(cols["bath_temperature"])[1]
-    labels = {name: str(col) for name, col in cols.items()}
-    c = Columns(
-        run_ids=[str(x) for x in run_ids], liquid=[str(x) for x in liquid],
-        sources=[source] * R, run=run.astype(int), T=point["T"], reading=point["reading"],
-        pressure=point["pressure"], include=include, reason=reason, rows=row_of.astype(int),
-        scalar=scalar, direction=np.array([parse_direction(g) for g in grad], int),
-        given_u={k: given.get(k, np.full(R, np.nan)) for k in U_KEYS if k != "density_relative"}
-        | {"density": given["density"], "density_relative": given["density_relative"]},
-        T_unit=[T_unit] * R, places=[_TablePlace(int(row_of[f]), labels) for f in first],
-        reading_unit=[split_header(cols["reading"])[1]] * R,
-        pressure_unit=[split_header(cols["pressure"])[1] if "pressure" in cols else ""] * R)
-    stack, bad = assemble(c)
-    failures = {r: exc for r, exc in bad}
-    failures.update(fail)
-    if fail:  # cell-level failures found above: drop those runs as well
-        bad_ids = {str(run_ids[r]) for r in fail}
-        stack = stack.take(np.array([i for i, rid in enumerate(stack.run_ids)
-                                     if rid not in bad_ids], int))
-    return stack, [(str(run_ids[r]), failures[r]) for r in sorted(failures)]
+    def text(self, name, default) -> np.ndarray:
+        if name not in self.cols:
+            return np.full(len(self.t), default, dtype=object)
+        return self.t[self.cols[name]].fillna("").astype(str).str.strip().to_numpy()[self.order]
+
+    def _per_run_column(self, name, kind, delta=False, allow=()) -> np.ndarray:
+        col = self.cols.get(name)
+        if col is None:
+            return np.full(self.R, np.nan)
+        return self.per_run(self.numeric(col, kind, delta=delta, allow_text=allow), col)
+
+    def columns(self) -> Columns:
+        cols, R = self.cols, self.R
+        point = {key: (self.numeric(cols[name], kind) if name in cols
+                       else np.full(len(self.t), np.nan)) for name, (key, kind) in _POINT.items()}
+        for name in ("bath_temperature", "reading"):
+            self.bad_cells(np.isnan(point[_POINT[name][0]]), cols[name],
+                           lambda k, n=name: f"missing {n}", "enter the value or delete the row")
+        scalar = {key: self._per_run_column(name, FIELDS[name][0], allow=(
+            ("reference",) if name == "liquid_density" else ())) for key, name in QUANTITY.items()}
+        given = {key: self._per_run_column(f"u({name})", _POINT[name][1] if name in _POINT
+                                           else FIELDS[name][0], delta=True)
+                 for name, key in _U_OF.items()}
+        given["density"] = self._per_run_column("u(liquid_density)", "density", delta=True)
+        given["density_relative"] = self._per_run_column("u_rel(liquid_density)", None)
+        liquid = self.per_run(self.text("liquid", ""), "liquid")
+        grad = self.per_run(self.text("graduated_from", ""), "graduated_from")
+        flag_text = np.char.lower(self.text("include", "yes").astype(str))
+        self.bad_cells(~np.isin(flag_text, list(_TRUE | _FALSE)), cols.get("include", "include"),
+                       lambda k: f"include flag {flag_text[k]!r} is not yes or no",
+                       "write yes or no (empty means yes)")
+        labels = {name: str(col) for name, col in cols.items()}
+        unit = lambda name: split_header(cols[name])[1] if name in cols else ""  # noqa: E731
+        return Columns(
+            run_ids=[str(x) for x in self.run_ids], liquid=[str(x) for x in liquid],
+            sources=[self.source] * R, run=self.run.astype(int), T=point["T"],
+            reading=point["reading"], pressure=point["pressure"],
+            include=np.isin(flag_text, list(_TRUE)), reason=self.text("reason", "").astype(object),
+            rows=self.row_of.astype(int), scalar=scalar,
+            direction=np.array([parse_direction(g) for g in grad], int),
+            given_u={k: given.get(k, np.full(R, np.nan)) for k in U_KEYS
+                     if k != "density_relative"} | {"density": given["density"],
+                                                    "density_relative": given["density_relative"]},
+            T_unit=[unit("bath_temperature")] * R,
+            places=[_TablePlace(int(self.row_of[f]), labels) for f in self.first],
+            reading_unit=[unit("reading")] * R, pressure_unit=[unit("pressure")] * R)
 
 
 # ---------------------------------------------------------------------------

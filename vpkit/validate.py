@@ -75,89 +75,102 @@ def uncertainties(c: Columns) -> dict[str, np.ndarray]:
 
 def check(s: RunStack, c: Columns) -> list[tuple[int, InputError]]:
     """Physical checks of every run at once; the first failed check of each run."""
-    out: dict[int, InputError] = {}
+    ch = _Checker(s)
+    with np.errstate(invalid="ignore"):
+        _reading_checks(ch, s, c)
+        _check_temperature_unit(s, c, ch.out)
+        _run_checks(ch, s)
+    return sorted(ch.out.items())
 
-    def fail(bad, make):
+
+class _Checker:
+    """Collects the first located error of each run."""
+
+    def __init__(self, s: RunStack) -> None:
+        self.s = s
+        self.out: dict[int, InputError] = {}
+
+    def fail(self, bad, make) -> None:
         for r in np.flatnonzero(bad):
-            if int(r) not in out:
-                out[int(r)] = make(int(r))
+            if int(r) not in self.out:
+                self.out[int(r)] = make(int(r))
 
-    def point_rule(cond, column, kind, text, hint, unit_of):
+    def point_rule(self, cond, column, kind, text, hint, unit_of) -> None:
+        """A rule on readings: the run's first offending point, its value as typed."""
+        s = self.s
         bad = s.mask & cond
         for r in np.flatnonzero(bad.any(axis=1)):
-            if int(r) in out:
+            if int(r) in self.out:
                 continue
             i = int(np.argmax(bad[r]))
             value = getattr(s, {"bath_temperature": "T", "reading": "reading",
                                 "pressure": "pressure"}[column])[r, i]
-            shown = f"{from_si(value, unit_of[r], kind):g} {unit_of[r]}" if unit_of[r] \
-                else f"{value:g}"
-            out[int(r)] = ImpossibleDataError(text.format(shown), **s.place(r, column, i),
-                                              hint=hint)
+            shown = (f"{from_si(value, unit_of[r], kind):g} {unit_of[r]}" if unit_of[r]
+                     else f"{value:g}")
+            self.out[int(r)] = ImpossibleDataError(text.format(shown), **s.place(r, column, i),
+                                                   hint=hint)
 
-    with np.errstate(invalid="ignore"):
-        for column, arr in (("bath_temperature", s.T), ("reading", s.reading)):
-            nonfinite = s.mask & ~np.isfinite(arr)
-            fail(nonfinite.any(axis=1), lambda r, col=column, a=nonfinite: BadValueError(
-                f"missing or non-finite {col}", **s.place(r, col, int(np.argmax(a[r]))),
-                hint="enter the measured value, or delete the row"))
-        own = ~np.isnan(s.pressure)
-        inf_p = own & ~np.isfinite(s.pressure)
-        fail(inf_p.any(axis=1), lambda r: BadValueError(
-            "pressure is not a finite number", **s.place(r, "pressure",
-                                                         int(np.argmax(inf_p[r]))),
-            hint="enter the absolute pressure, or leave the cell empty"))
-        point_rule(s.T <= 0, "bath_temperature", "temperature",
-                   "bath temperature {} is at or below absolute zero",
-                   "check the unit in the column header", c.T_unit)
-        # plausibility (common practice, no source): no liquid bath runs above 700 K,
-        # and no graduated tube holds a litre of gas
-        point_rule(s.T > 700.0, "bath_temperature", "temperature",
-                   "bath temperature {} is far above any liquid bath",
-                   "check the value and the unit in the column header", c.T_unit)
-        point_rule(s.reading > 1e-3, "reading", "volume",
-                   "graduation reading {} is larger than any graduated tube",
-                   "check the value and the unit in the column header",
-                   c.reading_unit or [""] * s.R)
-        point_rule(s.reading < 0, "reading", "volume", "graduation reading {} is negative",
-                   "readings count up from the zero mark; check the sign",
-                   c.reading_unit or [""] * s.R)
-        point_rule(own & (s.pressure <= 0), "pressure", "pressure", "pressure {} is not positive",
-                   "enter the absolute pressure", c.pressure_unit or [""] * s.R)
-    _check_temperature_unit(s, c, out)
-    sc = s.scalar
-    for key, required in (("P_bar", True), ("T_room", True)):
+
+def _reading_checks(ch: _Checker, s: RunStack, c: Columns) -> None:
+    for column, arr in (("bath_temperature", s.T), ("reading", s.reading)):
+        nonfinite = s.mask & ~np.isfinite(arr)
+        ch.fail(nonfinite.any(axis=1), lambda r, col=column, a=nonfinite: BadValueError(
+            f"missing or non-finite {col}", **s.place(r, col, int(np.argmax(a[r]))),
+            hint="enter the measured value, or delete the row"))
+    own = ~np.isnan(s.pressure)
+    inf_p = own & ~np.isfinite(s.pressure)
+    ch.fail(inf_p.any(axis=1), lambda r: BadValueError(
+        "pressure is not a finite number", **s.place(r, "pressure", int(np.argmax(inf_p[r]))),
+        hint="enter the absolute pressure, or leave the cell empty"))
+    volume_units = c.reading_unit or [""] * s.R
+    ch.point_rule(s.T <= 0, "bath_temperature", "temperature",
+                  "bath temperature {} is at or below absolute zero",
+                  "check the unit in the column header", c.T_unit)
+    # plausibility (common practice, no source): no liquid bath runs above 700 K,
+    # and no graduated tube holds a litre of gas
+    ch.point_rule(s.T > 700.0, "bath_temperature", "temperature",
+                  "bath temperature {} is far above any liquid bath",
+                  "check the value and the unit in the column header", c.T_unit)
+    ch.point_rule(s.reading > 1e-3, "reading", "volume",
+                  "graduation reading {} is larger than any graduated tube",
+                  "check the value and the unit in the column header", volume_units)
+    ch.point_rule(s.reading < 0, "reading", "volume", "graduation reading {} is negative",
+                  "readings count up from the zero mark; check the sign", volume_units)
+    ch.point_rule(own & (s.pressure <= 0), "pressure", "pressure", "pressure {} is not positive",
+                  "enter the absolute pressure", c.pressure_unit or [""] * s.R)
+
+
+def _run_checks(ch: _Checker, s: RunStack) -> None:
+    sc, fail = s.scalar, ch.fail
+    for key in ("P_bar", "T_room"):
         name = QUANTITY[key]
-        fail(np.isnan(sc[key]) if required else np.zeros(s.R, bool),
-             lambda r, n=name: RunFileError(f"required entry {n!r} is missing",
-                                            **s.place(r, n),
-                                            hint=f"give {n} with its unit"))
+        fail(np.isnan(sc[key]), lambda r, n=name: RunFileError(
+            f"required entry {n!r} is missing", **s.place(r, n), hint=f"give {n} with its unit"))
     for key, name in QUANTITY.items():
         fail(np.isinf(sc[key]), lambda r, n=name: BadValueError(
             f"{n} is not a finite number", **s.place(r, n), hint="enter the measured value"))
-    with np.errstate(invalid="ignore"):
-        fail(sc["P_bar"] <= 0, lambda r: ImpossibleDataError(
-            "barometric_pressure: must be positive", **s.place(r, "barometric_pressure"),
-            hint="enter the absolute barometric pressure"))
-        fail(sc["T_room"] <= 0, lambda r: ImpossibleDataError(
-            "room_temperature: is at or below absolute zero", **s.place(r, "room_temperature"),
-            hint="check its unit"))
-        for key in ("mass_before", "mass_after", "V_injected"):
-            name = QUANTITY[key]
-            fail(sc[key] <= 0, lambda r, n=name: ImpossibleDataError(
-                f"{n}: must be positive", **s.place(r, n), hint="enter the measured value"))
-        one = np.isnan(sc["mass_before"]) != np.isnan(sc["mass_after"])
-        fail(one, lambda r: ImpossibleDataError(
-            "both masses are needed for the weighing",
-            **s.place(r, "mass_before_air" if np.isnan(sc["mass_before"][r])
-                      else "mass_after_air"), hint="enter both masses, or neither"))
-        fail(sc["mass_after"] >= sc["mass_before"], lambda r: ImpossibleDataError(
-            "mass_after_air: is not lower than the mass before the air was added; the air "
-            "displaces liquid, so the mass must drop", **s.place(r, "mass_after_air"),
-            hint="check that the two masses are not swapped"))
-        fail(sc["density"] <= 0, lambda r: ImpossibleDataError(
-            "liquid_density: must be positive", **s.place(r, "liquid_density"),
-            hint="enter the density or 'reference'"))
+    fail(sc["P_bar"] <= 0, lambda r: ImpossibleDataError(
+        "barometric_pressure: must be positive", **s.place(r, "barometric_pressure"),
+        hint="enter the absolute barometric pressure"))
+    fail(sc["T_room"] <= 0, lambda r: ImpossibleDataError(
+        "room_temperature: is at or below absolute zero", **s.place(r, "room_temperature"),
+        hint="check its unit"))
+    for key in ("mass_before", "mass_after", "V_injected"):
+        name = QUANTITY[key]
+        fail(sc[key] <= 0, lambda r, n=name: ImpossibleDataError(
+            f"{n}: must be positive", **s.place(r, n), hint="enter the measured value"))
+    one = np.isnan(sc["mass_before"]) != np.isnan(sc["mass_after"])
+    fail(one, lambda r: ImpossibleDataError(
+        "both masses are needed for the weighing",
+        **s.place(r, "mass_before_air" if np.isnan(sc["mass_before"][r]) else "mass_after_air"),
+        hint="enter both masses, or neither"))
+    fail(sc["mass_after"] >= sc["mass_before"], lambda r: ImpossibleDataError(
+        "mass_after_air: is not lower than the mass before the air was added; the air "
+        "displaces liquid, so the mass must drop", **s.place(r, "mass_after_air"),
+        hint="check that the two masses are not swapped"))
+    fail(sc["density"] <= 0, lambda r: ImpossibleDataError(
+        "liquid_density: must be positive", **s.place(r, "liquid_density"),
+        hint="enter the density or 'reference'"))
     fail(s.direction == 0, lambda r: BadValueError(
         "graduated_from: not 'closed end' or 'open end'", **s.place(r, "graduated_from"),
         hint="write 'closed end' when the zero mark is near the closed end"))
@@ -167,7 +180,6 @@ def check(s: RunStack, c: Columns) -> list[tuple[int, InputError]]:
         "the scale offset can be neither calibrated nor read: give room_reading with "
         "mass_before_air and mass_after_air, or scale_offset", **s.place(r, "scale_offset"),
         hint="add the weighing rows, or a measured scale_offset"))
-    return sorted(out.items())
 
 
 def _check_temperature_unit(s: RunStack, c: Columns, out: dict) -> None:
