@@ -25,6 +25,7 @@ from .errors import (
     ConvergenceWarning,
     ExtrapolationWarning,
     IllConditionedWarning,
+    ImplausibleValueWarning,
     ImpossiblePointWarning,
     Notice,
     ReferenceDeviationWarning,
@@ -80,7 +81,36 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
         _point_checks(res, out)
         _reference_checks(res, add, out, span)
         _fit_checks(res, add)
+        _plausibility_checks(res, add)
     return tuple(tuple(x) for x in out)
+
+
+def _plausibility_checks(res, add) -> None:
+    """Entries and results that are possible but unlikely (ranges: common practice, no
+    source): a barometer outside 50-110 kPa (sea level to about 5,500 m), a room outside
+    5-40 degC, ΔH_vap more than 30 % from the reference, or outside 10-80 kJ/mol where
+    there is none."""
+    lim, sc = res.choices.limits, res.stack.scalar
+    P = sc["P_bar"] / 1e3
+    add((P < lim["barometric_min_kPa"]) | (P > lim["barometric_max_kPa"]), "barometer?",
+        ImplausibleValueWarning, lambda r: (
+            f"barometric pressure {P[r]:.4g} kPa is outside {lim['barometric_min_kPa']:g}-"
+            f"{lim['barometric_max_kPa']:g} kPa: is the unit right (kPa, hPa, mbar, mmHg)?"))
+    t = sc["T_room"] - 273.15
+    add((t < lim["room_min_degC"]) | (t > lim["room_max_degC"]), "room temperature?",
+        ImplausibleValueWarning, lambda r: (
+            f"room temperature {t[r]:.4g} degC is outside {lim['room_min_degC']:g}-"
+            f"{lim['room_max_degC']:g} degC: is the unit right (degC, K, degF)?"))
+    ref = res.comparison["enthalpy"]
+    kJ = res.enthalpy / 1e3
+    rel = kJ * 1e3 / ref - 1
+    far = np.where(np.isfinite(ref), np.abs(rel) > lim["enthalpy_rel_to_reference"],
+                   (kJ < lim["enthalpy_min_kJ"]) | (kJ > lim["enthalpy_max_kJ"]))
+    add(far, "implausible ΔH_vap", ImplausibleValueWarning, lambda r: (
+        f"ΔH_vap = {kJ[r]:.4g} kJ/mol is "
+        + (f"{100 * rel[r]:+.0f} % from the reference" if np.isfinite(ref[r]) else
+           f"outside {lim['enthalpy_min_kJ']:g}-{lim['enthalpy_max_kJ']:g} kJ/mol")
+        + ": check the units of the entries and the air amount"))
 
 
 def _data_checks(res, add, out) -> np.ndarray:

@@ -43,6 +43,11 @@ DEFAULT_THRESHOLDS: dict[str, float] = {
     "scatter_percentile": 0.99,  # χ² above this percentile of its distribution
     "suspect_u": 5.0,  # distance from a robust line, in the point's own standard uncertainties
     "extrapolation_K": 10.0,  # T_b this far beyond the data (and beyond the span) is flagged
+    # plausibility of what was entered (a unit slip?)
+    "barometric_min_kPa": 50.0, "barometric_max_kPa": 110.0,  # sea level to ~5,500 m
+    "room_min_degC": 5.0, "room_max_degC": 40.0,
+    "enthalpy_rel_to_reference": 0.3,  # |ΔH/ΔH_ref - 1| above this is implausible
+    "enthalpy_min_kJ": 10.0, "enthalpy_max_kJ": 80.0,  # without a reference
 }
 
 AIR_REFERENCE_REASON = "used for the air amount (cold reference)"

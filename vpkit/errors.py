@@ -138,6 +138,10 @@ class ScatterWarning(VpkitWarning):
     """The scatter is larger than the stated uncertainties allow."""
 
 
+class ImplausibleValueWarning(VpkitWarning):
+    """An entry or a result is possible but unlikely: a unit or typing slip?"""
+
+
 class ConvergenceWarning(VpkitWarning):
     """An iteration (self-consistent air amount, nonlinear fit) did not converge."""
 

@@ -46,3 +46,29 @@ def test_impossible_points_name_the_value():
     w = next(x for x in a.warnings if x.startswith("point 0"))
     assert "excluded" in w and "p_vap = -" in w and "Pa)" in w
     assert np.isfinite(a.enthalpy.nominal_value)
+
+
+def _entry(run, name, entry):
+    return run.__class__(tuple((k, entry if k == name else e) for k, e in run.entries),
+                         run.units, run.bath_temperature, run.reading, run.pressure,
+                         run.include, run.reason)
+
+
+def test_unit_slips_are_named_with_their_number():
+    """A barometer typed in mbar as if kPa, a room temperature in degF labelled degC
+    (ranges: common practice, no source; stated in vpkit.checks)."""
+    run = make_run("ethanol")
+    slip = _entry(run, "barometric_pressure", vpkit.Entry(1000.8, "kPa"))
+    with np.errstate(all="ignore"):
+        try:
+            texts = " | ".join(vpkit.analyze(slip, warn=False).warnings)
+        except vpkit.VpkitError as exc:  # may also be impossible outright
+            texts = str(exc)
+    assert "1001 kPa is outside 50-110 kPa" in texts or "impossible" in texts
+    warm = _entry(run, "room_temperature", vpkit.Entry(70.3, "degC"))
+    a = vpkit.analyze(warm, warn=False)
+    w = [x for x in a.warnings if "room temperature" in x]
+    assert w and "70.3 degC is outside 5-40 degC" in w[0] and w[0].category is \
+        vpkit.errors.ImplausibleValueWarning
+    assert "room temperature?" in a.results()["flags"].iloc[0]
+    assert "implausible ΔH_vap" in a.results()["flags"].iloc[0]
