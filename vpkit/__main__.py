@@ -84,15 +84,14 @@ def _analyze(args) -> int:
             print(f"error: {exc}", file=sys.stderr)
             status = 2
             continue
-        dH = a.enthalpy
-        Tb = a.boiling_point()
+        r = a.results().iloc[0]
         print(f"{path}: {a.si.liquid}, {int(a.include.sum())}/{len(a.T)} points; session: {note}")
-        print(f"  ΔH_vap = {D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} "
-              f"at T_m = {D.number(a.T_m, 'K')}")
-        print(f"  T_b(101.325 kPa) = {D.value_u(Tb.nominal_value - 273.15, Tb.std_dev, 'degC')}")
+        dH = D.value_u(r["ΔH_vap [kJ/mol]"], r["u(ΔH_vap) [kJ/mol]"], "kJ/mol")
+        print(f"  ΔH_vap = {dH} at T_m = {D.number(a.T_m, 'K')}")
+        Tb = D.value_u(r["T_b at 101.325 kPa [degC]"], r["u(T_b at 101.325 kPa) [K]"], "degC")
+        print(f"  T_b(101.325 kPa) = {Tb}")
         c = a.comparison
         if c is not None:
-            r = a.results().iloc[0]
             print(f"  reference ({c.curve.label}): ΔH_vap = "
                   f"{D.number(c.enthalpy / 1e3, 'kJ/mol')}, deviation "
                   f"{D.signed(r['deviation from reference [%]'], '%')} "

@@ -11,7 +11,6 @@ import html
 from pathlib import Path
 
 from . import display as D
-from .constants import P_STANDARD
 
 #: CSV numbers: 15 significant digits (all a double holds, without the 17th-digit noise
 #: of unit conversions, e.g. 29.6 rather than 29.600000000000023).
@@ -59,8 +58,7 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
     si = a.si
     kJ = lambda v: v / 1e3  # noqa: E731
     dH = f.enthalpy
-    Tb_run, Tb_n = a.boiling_point(si.P_bar), a.boiling_point(P_STANDARD)
-    dS = f.entropy_at_boiling()
+    dS = D.value_u(r["ΔS_vap at T_b [J/(mol K)]"], r["u(ΔS_vap) [J/(mol K)]"], "J/(mol K)")
     C = lambda t: t - 273.15  # noqa: E731
     lines = [f"# Vapor-pressure analysis: {md_text(si.liquid)}", ""]
     if a.run.source:
@@ -71,10 +69,10 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
         f"| ΔH_vap at T_m = {D.number(f.T_m, 'K')} | "
         f"{D.value_u(kJ(dH.nominal_value), kJ(dH.std_dev), 'kJ/mol')} (standard uncertainty) |",
         f"| boiling point at run pressure ({D.number(si.P_bar / 1e3, 'kPa')}) | "
-        f"{D.value_u(C(Tb_run.nominal_value), Tb_run.std_dev, 'degC')} |",
+        f"{D.value_u(r['T_b at run pressure [degC]'], r['u(T_b at run pressure) [K]'], 'degC')} |",
         f"| normal boiling point (101.325 kPa) | "
-        f"{D.value_u(C(Tb_n.nominal_value), Tb_n.std_dev, 'degC')} |",
-        f"| ΔS_vap at T_b | {D.value_u(dS.nominal_value, dS.std_dev, 'J/(mol K)')} |",
+        f"{D.value_u(r['T_b at 101.325 kPa [degC]'], r['u(T_b at 101.325 kPa) [K]'], 'degC')} |",
+        f"| ΔS_vap at T_b | {dS} |",
         f"| reduced χ² | {D.number(f.chi2_reduced, digits=3)}"
         f"{' (covariance scaled by it)' if f.scaled else ''} |",
         f"| points used | {int(a.include.sum())} of {len(a.T)} |",
@@ -83,7 +81,7 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
     if mb is not None:
         lines.append(f"| measured boiling point | {D.number(C(mb.nominal_value), 'degC')} "
                      f"(measured − predicted: "
-                     f"{D.signed(mb.nominal_value - Tb_run.nominal_value, 'K', 2)}) |")
+                     f"{D.signed(r['measured - predicted T_b [K]'], 'K', 2)}) |")
     c = a.comparison
     if c is not None:
         lines.append(f"| {md_text(c.curve.label)} ΔH_vap at T_m | "
@@ -92,7 +90,7 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
                      f"{D.signed(r['deviation from reference [u]'], 'u')}) |")
         lines.append(f"| reference normal boiling point | "
                      f"{D.number(C(c.normal_boiling_point), 'degC')} |")
-    lines += ["", f"Trouton's rule: {f.trouton_verdict()}.", "", "## Choices", "",
+    lines += ["", f"Trouton's rule: {r['Trouton'] or 'not computable'}.", "", "## Choices", "",
               f"- model: {f.model.label}; weighting: {f.weighting}",
               f"- air amount from: {AIR_TEXT[a.result.choices.air_from]}; p_vap at the air "
               f"reference: {VAPOR_TEXT[a.vapor_mode]}"

@@ -147,6 +147,12 @@ def parse_run(data: bytes | str, *, source: str = "<text>", decimal: str = ".") 
 def _decode(data: bytes | str, source: str) -> str:
     if isinstance(data, str):
         data = data.encode("utf-8", "surrogatepass")
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):  # UTF-16 text (spreadsheet export)
+        try:
+            return data.decode("utf-16")
+        except UnicodeDecodeError as exc:
+            raise RunFileError("the file looks like UTF-16 text but cannot be decoded",
+                               file=source, hint="save it again as CSV (UTF-8)") from exc
     if data.startswith(b"\xef\xbb\xbf"):
         data = data[3:]
     if b"\x00" in data:
@@ -193,6 +199,13 @@ def _entry_from_cells(name, cells, source, row, decimal) -> Entry:
     value = cells[0] if len(cells) > 0 else ""
     unit = cells[1] if len(cells) > 1 else ""
     unc = cells[2] if len(cells) > 2 else ""
+    if (decimal == "." and len(cells) >= 3 and _NUMBER.match(value.strip())
+            and _NUMBER.match(unit.strip()) and name in FIELDS and FIELDS[name][0] != "text"):
+        raise RunFileError(f"{name}: {len(cells) + 1} cells where the header has 4 and a number "
+                           f"({unit!r}) where the unit belongs: a decimal comma in "
+                           f"'{value},{unit}'?", file=source, row=row, column="value",
+                           hint="use a decimal point, or read the file with decimal=',' and "
+                           "';' between the columns")
     if name not in FIELDS:
         raise RunFileError(f"unknown quantity {name!r}", file=source, row=row, column="quantity",
                            hint="known quantities are " + ", ".join(FIELDS))
@@ -328,7 +341,14 @@ def _build(entries, header, rows, linenos, comments, source, decimal=".", header
         elif flag in _FALSE:
             inc.append(False)
         else:
-            raise BadValueError(f"include flag {cell(cells, 'include')!r} is not yes or no",
+            text = cell(cells, "include")
+            if _NUMBER.match(text.strip()):  # a number in the flag's place: a split decimal
+                raise RunFileError(
+                    f"include flag {text!r} is a number: a decimal comma seems to split a "
+                    f"value of this row in two ({','.join(cells)})", file=source, row=lineno,
+                    column="include", hint="use a decimal point, or read the file with "
+                    "decimal=',' and ';' between the columns")
+            raise BadValueError(f"include flag {text!r} is not yes or no",
                                file=source, row=lineno, column="include",
                                hint="write yes or no (empty means yes)")
         why.append(cell(cells, "reason"))

@@ -55,6 +55,8 @@ _ALIASES = {
     "ml": "mL", "µl": "uL", "μl": "uL", "ul": "uL", "cm3": "cm**3", "cm³": "cm**3",
     "cc": "cm**3", "l": "L", "m3": "m**3", "mm3": "mm**3",
     "torr": "torr", "mmhg": "mmHg", "inhg": "inHg", "kpa": "kPa", "hpa": "hPa",
+    "°celsius": "degC", "degcelsius": "degC", "ºf": "degF", "milliliter": "mL",
+    "millilitre": "mL", "milliliters": "mL", "millilitres": "mL", "gram": "g", "grams": "g",
     "mbar": "mbar", "pa": "Pa", "bar": "bar", "atm": "atm", "psi": "psi",
     "g/ml": "g/mL", "g/cm3": "g/cm**3", "kg/m3": "kg/m**3", "kg/l": "kg/L",
     "g/l": "g/L",
@@ -62,9 +64,14 @@ _ALIASES = {
 
 
 def normalize_unit(text: str) -> str:
-    """Return the pint spelling of a unit as people type it (``°C`` -> ``degC``)."""
+    """Return the pint spelling of a unit as people type it (``°C``, ``deg C``, ``mm Hg``)."""
     key = text.strip()
-    return _ALIASES.get(key.lower(), key)
+    squeezed = key.lower().replace(" ", "").replace("℃", "°c").replace("℉", "°f")
+    for prefix in ("degrees", "degree"):
+        if squeezed.startswith(prefix) and squeezed[len(prefix):] in ("c", "f", "celsius",
+                                                                    "fahrenheit"):
+            squeezed = "deg" + squeezed[len(prefix)]
+    return _ALIASES.get(squeezed, _ALIASES.get(key.lower(), key))
 
 
 @functools.lru_cache(maxsize=256)

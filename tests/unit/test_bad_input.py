@@ -268,3 +268,35 @@ def test_a_run_that_cannot_be_fitted_shows_no_invented_numbers(tmp_path):
     for col in ("ΔH_vap [kJ/mol]", "T_b at 101.325 kPa [degC]", "deviation from reference [u]",
                 "n_air [mmol]"):
         assert np.isnan(s.loc["pair2", col]), col
+
+
+SLIP_CASES = [
+    ("decimal comma in a reading", sub("40.0,2.389,yes,", "40.0,2,389,yes,"), RunFileError, 17,
+     "include", "decimal comma"),
+    ("decimal comma in an entry", sub("mass_after_air,28.4230,g", "mass_after_air,28,4230,g"),
+     RunFileError, 8, "value", "decimal comma in '28,4230'"),
+]
+
+
+@pytest.mark.parametrize("case", SLIP_CASES, ids=[c[0] for c in SLIP_CASES])
+def test_slips_are_blamed_on_the_right_place(case):
+    _, text, error, row, column, fragment = case
+    with pytest.raises(error) as info:
+        load(text)
+    assert info.value.row == row and info.value.column == column
+    assert fragment in str(info.value) and "decimal point" in info.value.hint
+
+
+@pytest.mark.parametrize("spelling", ["deg C", "C", "celsius", "°c", "degree Celsius", "℃",
+                                      " degC "])
+def test_spellings_people_type_are_accepted(spelling):
+    run = load(sub("room_temperature,21.0,degC", f"room_temperature,21.0,{spelling}"))
+    assert run.to_si().T_room == pytest.approx(294.15)
+
+
+def test_mm_hg_torr_and_utf16(tmp_path):
+    run = load(sub("barometric_pressure,100.2,kPa,0.1", "barometric_pressure,751.6,mm Hg,1"))
+    assert run.to_si().P_bar == pytest.approx(751.6 * 133.322387415, rel=1e-9)
+    p = tmp_path / "export.csv"
+    p.write_text(BASE, encoding="utf-16")
+    assert vpkit.read_run(p).n_points == 6
