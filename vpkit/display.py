@@ -33,8 +33,10 @@ def value_u(value: float, u: float | None, unit: str = "") -> str:
     """'v ± u unit' by the rule of this module; '—' for a missing value."""
     if value is None or not math.isfinite(value):
         return "—"
+    value = float(value)  # Python rounding: exact, no overflow for huge numbers
     if u is None or not math.isfinite(u):
         return number(value, unit)
+    u = float(u)
     d = _decimals(u)
     shown = max(d, 0)
     text = f"{_clean(round(value, d)):.{shown}f} ± {round(u, d):.{shown}f}"
@@ -45,7 +47,7 @@ def number(value: float, unit: str = "", digits: int = 4) -> str:
     """A number alone, to ``digits`` significant digits ('—' when missing)."""
     if value is None or not math.isfinite(value):
         return "—"
-    text = f"{_clean(_round_sig(value, digits)):.{digits}g}"
+    text = f"{_clean(_round_sig(float(value), digits)):.{digits}g}"
     return f"{text} {LABELS.get(unit, unit)}".rstrip()
 
 
@@ -53,7 +55,8 @@ def signed(value: float, unit: str = "", decimals: int = 1) -> str:
     """A signed difference with fixed decimals ('+1.2 %')."""
     if value is None or not math.isfinite(value):
         return "—"
-    return f"{_clean(round(value, decimals)):+.{decimals}f} {LABELS.get(unit, unit)}".rstrip()
+    return (f"{_clean(round(float(value), decimals)):+.{decimals}f} "
+            f"{LABELS.get(unit, unit)}").rstrip()
 
 
 def quantity(value_si: float, u_si: float | None, unit: str, kind: str,

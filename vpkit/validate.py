@@ -35,6 +35,23 @@ QUANTITY: dict[str, str] = {
     "depth": "bubble_depth", "T_boil": "boiling_point",
 }
 
+#: Hard limits of what an entry can be, in SI (common practice, no source): beyond them
+#: the value is a slip, not a measurement, and would only overflow the equations.
+LIMITS = {
+    "P_bar": (1e3, 1e7, "outside 1 kPa to 10 MPa"),
+    "T_room": (150.0, 500.0, "outside 150 to 500 K"),
+    "T_boil": (100.0, 1000.0, "outside 100 to 1000 K, far from any liquid's boiling point"),
+    "mass_before": (0.0, 10.0, "above 10 kg"), "mass_after": (0.0, 10.0, "above 10 kg"),
+    "room_reading": (-1e-3, 1e-3, "more than 1 L"), "V_injected": (0.0, 1e-3, "more than 1 L"),
+    "scale_offset": (-1e-3, 1e-3, "more than 1 L"),
+    "density": (100.0, 3e4, "outside 100 to 30,000 kg/m^3"),
+    "depth": (0.0, 10.0, "more than 10 m"),
+}
+
+SI_UNIT = {"P_bar": "Pa", "T_room": "K", "T_boil": "K", "mass_before": "kg", "mass_after": "kg",
+           "room_reading": "m^3", "V_injected": "m^3", "scale_offset": "m^3",
+           "density": "kg/m^3", "depth": "m"}
+
 #: Uncertainty keys and the default (SI) that fills each gap.
 DEFAULTS = {
     "T": DEFAULT_UNCERTAINTY["temperature_uncertainty"],
@@ -149,6 +166,12 @@ def _run_checks(ch: _Checker, s: RunStack) -> None:
     for key, name in QUANTITY.items():
         fail(np.isinf(sc[key]), lambda r, n=name: BadValueError(
             f"{n} is not a finite number", **s.place(r, n), hint="enter the measured value"))
+    for key, (lo, hi, what) in LIMITS.items():
+        name = QUANTITY[key]
+        value = np.abs(sc[key]) if key == "depth" else sc[key]
+        fail((value < lo) | (value > hi), lambda r, n=name, k=key, w=what: ImpossibleDataError(
+            f"{n} = {sc[k][r]:g} {SI_UNIT[k]} is {w}", **s.place(r, n),
+            hint="check the value and its unit"))
     fail(sc["P_bar"] <= 0, lambda r: ImpossibleDataError(
         "barometric_pressure: must be positive", **s.place(r, "barometric_pressure"),
         hint="enter the absolute barometric pressure"))

@@ -300,3 +300,20 @@ def test_mm_hg_torr_and_utf16(tmp_path):
     p = tmp_path / "export.csv"
     p.write_text(BASE, encoding="utf-16")
     assert vpkit.read_run(p).n_points == 6
+
+
+@pytest.mark.parametrize("entry,value,unit", [("boiling_point", "1e308", "degC"),
+                                              ("room_temperature", "1e-5", "K"),
+                                              ("barometric_pressure", "3.7e5", "bar"),
+                                              ("mass_before_air", "1e300", "g")])
+def test_values_no_measurement_can_have_are_refused_at_the_edge(entry, value, unit):
+    """Hard limits (common practice, no source; vpkit.validate.LIMITS): such values are
+    slips, and would only overflow the equations."""
+    import re
+
+    line = next(x for x in BASE.splitlines() if x.startswith(entry + ","))
+    text = BASE.replace(line, re.sub(r",[^,]*,[^,]*,", f",{value},{unit},", line, count=1))
+    with pytest.raises(ImpossibleDataError) as info:
+        load(text).to_si()
+    assert info.value.column == entry and info.value.row is not None
+    assert "check the value and its unit" in info.value.hint
