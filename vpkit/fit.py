@@ -26,6 +26,10 @@ References
 .. [4] D. A. Belsley, E. Kuh, R. E. Welsch, "Regression Diagnostics", Wiley
    (1980): leverage and leave-one-out influence.
 .. [5] F. Trouton, Philos. Mag. 18, 54-57 (1884): Trouton's rule.
+.. [6] P. R. Bevington, D. K. Robinson, "Data Reduction and Error Analysis for the
+   Physical Sciences", 3rd ed., McGraw-Hill (2003), section 6.4: the fitted
+   straight line's intercept at the weighted mean of x is uncorrelated with
+   its slope (from memory of the section number).
 """
 
 from __future__ import annotations
@@ -364,7 +368,7 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
             norm = res / np.sqrt(chi2_red)[:, None]
         else:
             norm = res / np.sqrt(np.einsum("bii->bi", C))
-        T_m = 1.0 / (lsq.psum(np.where(mask, 1.0 / Tsafe, 0.0)) / n)
+        T_m = weighted_temperature(L, Tsafe, mask)
     norm = np.where(mask, norm, np.nan)
     res = np.where(np.isfinite(T), res, np.nan)
     if influence:
@@ -386,6 +390,33 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
                     ro(norm), ro(lev), ro(loo), ro(chi2), ro(dof), ro(chi2_red),
                     ro(scaled & good), ro(T_m), ro(n), ro(L), None if C is None else ro(C),
                     tuple(status), ro(ill))
+
+
+def weighted_temperature(L, T, mask) -> np.ndarray:
+    """T_m = 1/x_eff: where the fitted slope of ln p against x = 1/T is the true slope [K].
+
+    A straight line fitted with the fit's weights (precision P = C^-1, via its
+    whitening L) has slope b = g^T y with g^T 1 = 0 and g^T x = 1. For data with
+    curvature, y = y0 + y1 (x - x0) + y2 (x - x0)^2 / 2 + ..., the expected
+    slope is y1 + y2 (g^T x^2 / 2 - x0), the true slope at x_eff = g^T x^2 / 2
+    (exactly, to second order; independent of x0). For ``ordinary`` weights
+    x_eff is near the plain mean of 1/T; GLS weights favour the hot points and
+    move it up in T. ΔH_vap is reported, and compared, at this T_m.
+    """
+    N = T.shape[-1]
+    x = np.where(mask, 1.0 / T, 0.0)
+    X = np.stack([np.where(mask, 1.0, 0.0), x], axis=-1)
+    W = lsq.forward_solve(L, np.broadcast_to(np.eye(N), L.shape))
+    fac = lsq.lstsq(lsq.pmatmul(W, X), np.zeros(T.shape))
+    g = _slope_row(fac, W)
+    return 1.0 / (0.5 * lsq.psum(g * x * x))
+
+
+def _slope_row(fac, W) -> np.ndarray:
+    """Row of (X^T P X)^-1 X^T P that gives the slope: R^-1 Q^T W, second row."""
+    QtW = lsq.pmatmul(np.swapaxes(fac["Q"], -1, -2), W)  # (B, 2, N)
+    Rm = fac["R"]
+    return QtW[..., 1, :] / Rm[..., 1, 1, None]
 
 
 def _leave_one_out(m, weighting, space, T, y, mask, L, th, fac, rw, T_m, use):
