@@ -12,10 +12,13 @@ folded in by the effective-variance method, generalised to correlated errors
 [2]: C_r = C_yy - C_yT D - D C_Ty + D C_TT D with D = diag(df/dT), iterated
 with the parameters (at most four rounds, stopping at 1e-13 relative change).
 
-Covariance rule (stated): for ``weighted`` and ``gls`` the parameter covariance
-is (J^T C_r^-1 J)^-1, multiplied by the reduced χ² only when χ² exceeds its
-95th percentile for the degrees of freedom [3]; ``ordinary`` always uses
-s^2 (J^T J)^-1.
+Covariance rule (stated): for ``gls`` the parameter covariance is
+(J^T C_r^-1 J)^-1; for ``weighted`` and ``ordinary`` fits, when the points'
+covariance is known, it is the sandwich M C_r M^T of the estimator actually
+used (θ = M y), so the correlated part of the errors is counted whatever the
+weights [7]. Either is multiplied by the reduced χ² (χ² = r^T C_r^-1 r) only
+when χ² exceeds its 95th percentile for the degrees of freedom [3]. An
+``ordinary`` fit without stated uncertainties uses s^2 (J^T J)^-1.
 
 References
 ----------
@@ -26,6 +29,9 @@ References
 .. [4] D. A. Belsley, E. Kuh, R. E. Welsch, "Regression Diagnostics", Wiley
    (1980): leverage and leave-one-out influence.
 .. [5] F. Trouton, Philos. Mag. 18, 54-57 (1884): Trouton's rule.
+.. [7] H. White, "A heteroskedasticity-consistent covariance matrix estimator
+   and a direct test for heteroskedasticity", Econometrica 48, 817-838 (1980):
+   the sandwich form; here with the known (propagated) covariance in the middle.
 .. [6] P. R. Bevington, D. K. Robinson, "Data Reduction and Error Analysis for the
    Physical Sciences", 3rd ed., McGraw-Hill (2003), section 6.4: the fitted
    straight line's intercept at the weighted mean of x is uncorrelated with
@@ -47,6 +53,7 @@ from .fitresult import TROUTON_BAND, TROUTON_HBOND_BAND, FitResult, trouton_verd
 from .lsq import quad, readonly
 from .models import MODELS, Model, get_model  # noqa: F401  (MODELS re-exported)
 from .solve import (  # noqa: F401  (residual_covariance, solve_stack re-exported)
+    _design,
     _levenberg_marquardt,
     _solve_linear,
     _solve_nonlinear,
@@ -87,6 +94,10 @@ class StackFit:
         Per data set, "" or why it could not be fitted.
     ill_conditioned : ndarray of bool (R,)
         Three-parameter model whose curvature the data do not fix.
+    cov_method : {"gls", "sandwich", "scatter"}
+        How ``cov`` was found: GLS, (J^T C^-1 J)^-1; sandwich, M C M^T for
+        weighted or ordinary estimates when the points' covariance is known;
+        scatter, s^2 (J^T J)^-1 for an ordinary fit without stated uncertainties.
     """
 
     model: Model
@@ -111,6 +122,7 @@ class StackFit:
     residual_cov: np.ndarray | None = field(repr=False)
     status: tuple[str, ...] = ()
     ill_conditioned: np.ndarray = field(default=None, repr=False)
+    cov_method: str = "gls"
 
     @functools.cached_property
     def ok(self) -> np.ndarray:
@@ -241,8 +253,10 @@ def _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start,
     C, last = _effective_variance(m, weighting, space, covs, Tsafe, ysafe, mask, th, L,
                                   starts, status, good)
     reuse = last if (m.linear and space == "ln_p") else None
+    full = (cov_y, cov_yT, cov_T) if (weighting != "gls" and cov_y is not None
+                                      and chol is None) else None
     return _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
-                   reuse)
+                   reuse, full)
 
 
 def _starting_values(m, Tsafe, ysafe, mask, good, start, search):
@@ -322,8 +336,13 @@ def _round_covariance(m, weighting, space, covs, T, th, mask, a):
 
 
 def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
-            reuse=None):
-    """Covariance, χ², residuals, leverage and leave-one-out of converged fits."""
+            reuse=None, full=None):
+    """Covariance, χ², residuals, leverage and leave-one-out of converged fits.
+
+    With ``full`` (the covariances of the points) a ``weighted`` or ``ordinary`` fit
+    gets the sandwich covariance M C M^T of its estimator M, C the full residual
+    covariance: the weights are the user's choice, the errors' correlations are not.
+    """
     Rn, N = T.shape
     p = m.n_params
     good = np.array([s == "" for s in status])
@@ -350,9 +369,14 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     Rinv = lsq.upper_inverse(np.where(good[:, None, None], fac["R"], np.eye(p)))
     cov0 = Rinv @ np.swapaxes(Rinv, -1, -2)
     chi2[g] = lsq.psum(rw[g] * rw[g])
+    method = "gls" if weighting == "gls" else ("sandwich" if full is not None else "scatter")
+    if method == "sandwich":
+        cov0, chi2, C = _sandwich(m, space, full, Tsafe, ysafe, mask, thg, L, fac, Rinv, status,
+                                  good)
+        g = np.flatnonzero(good)
     with np.errstate(all="ignore"):
         chi2_red = np.where(dof > 0, chi2 / dof, np.nan)
-    if weighting == "ordinary":
+    if method == "scatter":
         scaled = np.ones(Rn, bool)
         cov = cov0 * np.where(dof > 0, chi2_red, np.nan)[:, None, None]
     else:
@@ -364,7 +388,7 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     f_all = m.f(np.where(np.isfinite(T), T, 300.0), thg)
     with np.errstate(all="ignore"):
         res = y - f_all if space == "ln_p" else np.exp(y) - np.exp(f_all)
-        if weighting == "ordinary":
+        if method == "scatter":
             norm = res / np.sqrt(chi2_red)[:, None]
         else:
             norm = res / np.sqrt(np.einsum("bii->bi", C))
@@ -389,7 +413,31 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     return StackFit(m, weighting, space, ro(th), ro(cov), ro(T), ro(y), ro(mask), ro(res),
                     ro(norm), ro(lev), ro(loo), ro(chi2), ro(dof), ro(chi2_red),
                     ro(scaled & good), ro(T_m), ro(n), ro(L), None if C is None else ro(C),
-                    tuple(status), ro(ill))
+                    tuple(status), ro(ill), method)
+
+
+def _sandwich(m, space, full, T, y, mask, th, L, fac, Rinv, status, good):
+    """M C M^T and the χ² against the full covariance C, for non-GLS weights [7].
+
+    The χ² that decides the scaling is that of the GLS line for C (the smallest
+    r^T C^-1 r, which is χ²-distributed), not of the chosen weights' line.
+    """
+    Rn, N = T.shape
+    C = _round_covariance(m, "gls", space, full, T, th, mask, np.arange(Rn))
+    Cm = lsq.masked_cov(C, mask)
+    Lf, ok = lsq.cholesky(Cm)
+    for r in np.flatnonzero(good & ~ok):
+        status[r] = NOT_PD
+    good &= ok
+    W = lsq.forward_solve(L, np.broadcast_to(np.eye(N), L.shape))
+    M = lsq.pmatmul(Rinv, lsq.pmatmul(np.swapaxes(fac["Q"], -1, -2), W))  # θ = M y
+    cov = lsq.pmatmul(lsq.pmatmul(M, Cm), np.swapaxes(M, -1, -2))
+    # χ² of the best (GLS) line for C, linearised at θ: the scatter test must not count
+    # the misfit that the chosen weights add by design
+    r, J, _ = _design(m, T, y, mask, th, space)
+    Z = lsq.forward_solve(Lf, np.concatenate([J, r[..., None]], axis=-1))
+    chi2 = lsq.lstsq(Z[..., :-1], Z[..., -1])["rss"]
+    return cov, np.where(good, chi2, np.nan), Cm
 
 
 def weighted_temperature(L, T, mask) -> np.ndarray:

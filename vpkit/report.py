@@ -36,8 +36,10 @@ WEIGHT_TEXT = {
            "barometer reading, weighing and air amount correlate the points), thermometer "
            "errors folded in by effective variance",
     "weighted": "weighted least squares (diagonal of the covariance of ln p, thermometer "
-                "errors by effective variance)",
-    "ordinary": "ordinary (unweighted) least squares",
+                "errors by effective variance), its uncertainty from the sandwich covariance "
+                "with the full covariance of ln p",
+    "ordinary": "ordinary (unweighted) least squares, its uncertainty from the sandwich "
+                "covariance with the full covariance of ln p",
 }
 
 
@@ -91,7 +93,7 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
         lines.append(f"| reference normal boiling point | "
                      f"{D.number(C(c.normal_boiling_point), 'degC')} |")
     lines += ["", f"Trouton's rule: {r['Trouton'] or 'not computable'}.", "", "## Choices", "",
-              f"- model: {f.model.label}; weighting: {f.weighting}",
+              f"- model: {f.model.label}; weighting: {WEIGHT_TEXT[f.weighting]}",
               f"- air amount from: {AIR_TEXT[a.result.choices.air_from]}; p_vap at the air "
               f"reference: {VAPOR_TEXT[a.vapor_mode]}"
               + (f" ({int(r['self-consistent rounds'])} rounds)" if a.vapor_mode == "fit"

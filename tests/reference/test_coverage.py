@@ -2,39 +2,43 @@
 
 Source of the criterion: JCGM 100:2008 (GUM), section 6.2-6.3: an expanded
 uncertainty with k = 1.96 for a normal distribution covers 95 % of the values.
-Truth: the published Antoine equation for ethanol (Poling et al. 2001, App. A);
-the estimand is the ΔH_vap that the same choices give on noise-free readings.
-Noise: the documented default standard uncertainties (common practice, no source),
-drawn per run for shared inputs (barometer, balance, room thermometer) and per point.
+Truth: the published equations (IAPWS-95 for water, via the bundled table;
+Poling et al. 2001, App. A, for ethanol); the estimand is the ΔH_vap that the same
+choices give on noise-free readings. Noise: the documented default standard
+uncertainties (common practice, no source), drawn per run for shared inputs
+(barometer, balance, room thermometer) and per point.
 
-Measured with seed 2026, 1,000 runs: GLS 94.1 %, diagonal weights 86.8 %,
-unweighted 62.2 % (it ignores the correlations and the unequal point errors).
+Criterion (issue "scientific truth"): every weighting between 93 % and 97 % over
+1,000 seeded runs. Measured when written (seed 2026): water GLS 93.6, weighted 95.2,
+ordinary 95.0 %; ethanol 94.1, 94.7, 95.4 %. Before the sandwich covariance the
+unweighted fit covered 62 % (it ignored the correlations of the points).
 """
 
 import numpy as np
+import pytest
 
 import vpkit
 from tests.conftest import make_run
+from vpkit.batch import analyze_runs
 from vpkit.simulate import NOISE
 
 N_RUNS = 1000
 
 
-def test_gls_interval_covers_95_percent():
-    truth = {w: vpkit.analyze(make_run("ethanol"), weighting=w).enthalpy.nominal_value
-             for w in ("gls", "ordinary")}
+@pytest.mark.parametrize("liquid", ["water", "ethanol"])
+def test_every_weighting_covers_95_percent(liquid):
     rng = np.random.default_rng(2026)
-    hits = {w: 0 for w in truth}
-    for _ in range(N_RUNS):
-        run = make_run("ethanol", noise=NOISE, rng=rng)
-        for w in truth:
-            e = vpkit.analyze(run, weighting=w).enthalpy
-            hits[w] += abs(e.nominal_value - truth[w]) <= 1.959964 * e.std_dev
-    gls = hits["gls"] / N_RUNS
-    ordinary = hits["ordinary"] / N_RUNS
-    print(f"coverage of the 95 % interval: gls {gls:.3f}, ordinary {ordinary:.3f}")
-    assert 0.93 <= gls <= 0.97
-    assert ordinary < gls - 0.1  # the unweighted fit is expected to under-cover
+    runs = {f"r{k}": make_run(liquid, noise=NOISE, rng=rng) for k in range(N_RUNS)}
+    for weighting in ("gls", "weighted", "ordinary"):
+        truth = vpkit.analyze(make_run(liquid), weighting=weighting,
+                              warn=False).enthalpy.nominal_value / 1e3
+        s = analyze_runs(runs, weighting=weighting)
+        assert (s["status"] == "").all()
+        hit = np.abs(s["ΔH_vap [kJ/mol]"] - truth) <= 1.959964 * s["u(ΔH_vap) [kJ/mol]"]
+        print(f"{liquid} {weighting}: coverage {hit.mean():.3f}")
+        assert 0.93 <= hit.mean() <= 0.97, (weighting, hit.mean())
+        expected = "GLS" if weighting == "gls" else "sandwich"
+        assert (s["covariance from"] == expected).all()
 
 
 def test_monte_carlo_agrees_with_linear_propagation():
