@@ -57,19 +57,24 @@ def liquids() -> list[str]:
     return list(antoine_table()["liquid"])
 
 
+def _key(name: str) -> str:
+    """A liquid's name for matching: case, spaces, '_' and '-' ignored (ethyl_acetate)."""
+    return "".join(ch for ch in str(name).lower() if ch not in " _-\t")
+
+
 @functools.cache
 def _name_index() -> dict[str, int]:
     index = {}
     for i, row in antoine_table().iterrows():
         for name in [row["liquid"], row["cas"], *row["aliases"].split(";")]:
             if name.strip():
-                index[name.strip().lower()] = i
+                index[_key(name)] = i
     return index
 
 
 def _row(liquid: str) -> pd.Series:
     table = antoine_table()
-    i = _name_index().get(liquid.strip().lower())
+    i = _name_index().get(_key(liquid))
     if i is not None:
         return table.loc[i]
     raise BadValueError(f"no reference data for liquid {liquid!r}", column="liquid",
@@ -83,7 +88,7 @@ def canonical_name(liquid: str) -> str:
 
 def has_reference(liquid: str) -> bool:
     """Whether the bundled table has ``liquid`` (aliases and CAS numbers accepted)."""
-    return liquid.strip().lower() in _name_index()
+    return _key(liquid) in _name_index()
 
 
 @dataclass(frozen=True)

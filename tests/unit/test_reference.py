@@ -33,3 +33,12 @@ def test_comparison_warns_outside_validity():
     cmp = compare_to_reference(c, T, c.p(T) * 1.01, [True] * 3, 320.0)
     np.testing.assert_allclose(cmp.deviation_percent, 1.0, rtol=1e-9)
     assert cmp.outside == (0,) and cmp.warnings
+
+
+@pytest.mark.parametrize("typed,name", [("ethyl_acetate", "ethyl acetate"), ("IPA", "2-propanol"),
+                                        ("isopropanol", "2-propanol"), ("Ethyl alcohol", "ethanol"),
+                                        ("H2O", "water"), ("propan-1-ol", "1-propanol"),
+                                        ("141-78-6", "ethyl acetate")])
+def test_names_people_type(typed, name):
+    """Synonyms and CAS numbers as in the Poling et al. (2001) table and common usage."""
+    assert canonical_name(typed) == name
