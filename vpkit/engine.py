@@ -37,7 +37,7 @@ from .propagate import (
     build_inputs,
 )
 from .reduce import FLAG_TEXT, point_flag_arrays
-from .selfconsistent import _merge, _reduce_and_fit, _self_consistent
+from .selfconsistent import merge_rows, reduce_and_fit, self_consistent
 from .stack import RunStack
 
 
@@ -174,12 +174,12 @@ def _analyze_stack(stack, choices, include, reasons) -> StackResult:
     errors: list[VpkitError | None] = list(res.errors)
     sc_rounds = np.zeros(R, int)
     sc_err = np.full(R, np.nan)
-    out = _reduce_and_fit(stack, res, choices, rows, fixed, inc, fit=False)
+    out = reduce_and_fit(stack, res, choices, rows, fixed, inc, fit=False)
     fit_mode = np.flatnonzero((mode == "fit") & np.array([e is None for e in errors]))
     if fit_mode.size:
-        sc, p_sc, rnd, err, failed = _self_consistent(stack, res, choices, fit_mode,
+        sc, p_sc, rnd, err, failed = self_consistent(stack, res, choices, fit_mode,
                                                       fixed[fit_mode], inc)
-        out = _merge(out, fit_mode, sc)
+        out = merge_rows(out, fit_mode, sc)
         sc_rounds[fit_mode], sc_err[fit_mode] = rnd, err
         for r in fit_mode[failed]:
             errors[r] = FitError("no self-consistent vapor pressure at the air reference "

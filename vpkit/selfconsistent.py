@@ -47,7 +47,7 @@ def _reference(res: Resolved, idx, fixed) -> ReferenceAtAir:
     return ReferenceAtAir(own.p, mode == "reference", np.where(mode == "fit", fixed, 0.0))
 
 
-def _reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, fit=True):
+def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, fit=True):
     """Reduction, Jacobian, covariance and (with ``fit``) fit of runs ``idx`` at p_ref
     ``fixed_p``."""
     layout = _rows_layout(res.layout, idx)
@@ -166,13 +166,13 @@ def _at_p(stack, res, choices, idx, p, inc):
     The covariance then carries dp/du, which depends on the fit's weights, which
     depend on the covariance: a few passes make that consistent at this p.
     """
-    cur = _reduce_and_fit(stack, res, choices, idx, p, inc)
+    cur = reduce_and_fit(stack, res, choices, idx, p, inc)
     for _ in range(IMPLICIT_PASSES):  # a fixed count: every run is treated alike in a batch
-        cur = _reduce_and_fit(stack, res, choices, idx, p, inc, implicit_from=cur["fit"])
+        cur = reduce_and_fit(stack, res, choices, idx, p, inc, implicit_from=cur["fit"])
     return cur
 
 
-def _self_consistent(stack, res, choices, idx, start, inc):
+def self_consistent(stack, res, choices, idx, start, inc):
     """Solve p_ref of the runs ``idx`` for self-consistency with their own fits.
 
     Φ(p) is the p at which the fit with the weights found at p reproduces its
@@ -215,7 +215,7 @@ def _self_consistent(stack, res, choices, idx, start, inc):
             g = np.exp(model.f(nxt["nominal"]["T_ref"], nxt["fit"].params))
             e = np.abs(g - p[keep]) / np.maximum(p[keep], 1e-300)
         err[keep] = e
-        cur = _merge(cur, keep, nxt)
+        cur = merge_rows(cur, keep, nxt)
         active[keep] = ~(e <= SELF_CONSISTENT_TOL)
     return cur, p, rounds, err, failed
 
@@ -241,7 +241,7 @@ def _fixed_weight_map(stack, res, choices, model, sub, fit, a):
     return G
 
 
-def _merge(cur: dict, keep, nxt: dict) -> dict:
+def merge_rows(cur: dict, keep, nxt: dict) -> dict:
     """Rows ``keep`` of a round's arrays and fit replaced by the next round's."""
     out = {k: (np.array(v) if isinstance(v, np.ndarray) else v) for k, v in cur.items()}
     for key in ("J", "J_pref", "dp_du", "lnp", "fit_inc", "cov_y", "cov_yT", "cov_T", "p_ref"):
@@ -251,16 +251,6 @@ def _merge(cur: dict, keep, nxt: dict) -> dict:
     for key in out["nominal"]:
         out["nominal"][key][keep] = nxt["nominal"][key]
     return _merge_fit(out, keep, nxt) if cur["fit"] is not None else out
-
-
-def _fit_rows(fit: StackFit, pos) -> StackFit:
-    """Rows ``pos`` of a fit, as a fit of those data sets."""
-    pick = lambda v: v[pos] if isinstance(v, np.ndarray) and v.ndim and len(v) == len(  # noqa: E731
-        fit.params) else v
-    sub_all = {f.name: getattr(fit, f.name) for f in dataclasses.fields(fit)}
-    take = {k: (pick(v) if k != "status" else tuple(v[i] for i in pos))
-            for k, v in sub_all.items()}
-    return StackFit(**take)
 
 
 def _merge_fit(cur: dict, keep, nxt: dict) -> dict:
