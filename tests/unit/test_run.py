@@ -5,26 +5,13 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-
-TEXT = """[run]
-quantity,value,unit,uncertainty
-liquid,ethanol,,
-barometric_pressure,100.2,kPa,0.1
-room_temperature,21.0,degC,
-room_reading,2.0,mL,
-mass_before_air,30.0,g,
-mass_after_air,28.4,g,
-[readings]
-bath_temperature [degC],reading [mL],include,reason
-25.0,2.1,yes,
-30.0,2.2,no,bath not settled
-"""
+from tests.unit.test_runfile import GOOD
 
 
 def test_values_and_places_as_entered():
-    run = vpkit.parse_run(TEXT, source="bench.csv")
+    run = vpkit.parse_run(GOOD, source="bench.csv")
     assert run.entry("barometric_pressure") == vpkit.Entry(100.2, "kPa", 0.1)
-    assert run.row_of_entry("mass_after_air") == 8 and run.row_of(1) == 12
+    assert run.row_of_entry("mass_after_air") == 9 and run.row_of(1) == 14
     assert run.liquid == "ethanol" and run.n_points == 2
 
 

@@ -237,6 +237,7 @@ class RunPanel:
                          else float(row["ΔH_vap [kJ/mol]"]) * 1e3 - self.previous_enthalpy)}
         if np.isfinite(row["measured T_b [degC]"]):
             out["T_b_measured"] = kelvin("measured T_b [degC]")
+            out["T_b_gap"] = float(row["measured - predicted T_b [K]"])
         if row["reference"]:
             out.update(reference=row["reference"],
                        reference_enthalpy=float(row["reference ΔH_vap at T_m [kJ/mol]"]) * 1e3,
@@ -429,8 +430,8 @@ class RunPanel:
                      f"{self._t(r['T_b_run'], r['u_T_b_run'])}; at 101.325 kPa: "
                      f"{self._t(r['T_b_normal'], r['u_T_b_normal'])}")
         if "T_b_measured" in r:
-            dT = D.quantity(r["T_b_measured"] - r["T_b_run"], None,
-                            self.choices["temperature_unit"], "temperature", delta=True)
+            dT = D.quantity(r["T_b_gap"], None, self.choices["temperature_unit"], "temperature",
+                            delta=True)
             lines.append(f"measured boiling point {self._t(r['T_b_measured'])}; measured − "
                          f"predicted = {dT}")
         lines.append(f"reduced χ² = {D.number(r['chi2_reduced'], digits=3)}"
