@@ -82,7 +82,33 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
         _reference_checks(res, add, out, span)
         _fit_checks(res, add)
         _plausibility_checks(res, add)
+        _method_checks(res, add)
     return tuple(tuple(x) for x in out)
+
+
+def _method_checks(res, add) -> None:
+    """Where the trapped-bubble method itself is ill-conditioned (METHOD 2.5; thresholds
+    common practice, no source): near room temperature p_vap is the small difference of
+    two large pressures, its relative error about P_total/p_vap times the volume's; near
+    boiling the bubble grows without bound."""
+    lim, inc = res.choices.limits, res.include
+    T = res.stack.T
+    amp = np.where(inc & (res.p_vap > 0), res.P_total / res.p_vap, 0.0)
+    i_amp = np.argmax(amp, axis=1)
+    rows = np.arange(res.R)
+    worst = amp[rows, i_amp]
+    add(worst > lim["max_amplification"], "amplified error", IllConditionedWarning, lambda r: (
+        f"at {_t(T[r, i_amp[r]])} p_vap is {100 / worst[r]:.1f} % of the pressure on the gas: "
+        f"its relative error is about {worst[r]:.0f} times the volume reading's (start the "
+        "run warmer, or use a larger bubble)"))
+    frac = np.where(inc, res.p_vap / res.P_total, 0.0)
+    i_fr = np.argmax(frac, axis=1)
+    top = frac[rows, i_fr]
+    growth = res.V[rows, i_fr] / np.min(np.where(inc, res.V, np.inf), axis=1)
+    add(top > lim["max_vapor_fraction"], "near boiling", IllConditionedWarning, lambda r: (
+        f"at {_t(T[r, i_fr[r]])} p_vap is {100 * top[r]:.0f} % of the pressure on the gas and "
+        f"the bubble has grown {growth[r]:.1f} times: close to boiling, the volume runs away "
+        "(check that it stayed in the tube)"))
 
 
 def _plausibility_checks(res, add) -> None:

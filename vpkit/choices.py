@@ -48,6 +48,9 @@ DEFAULT_THRESHOLDS: dict[str, float] = {
     "room_min_degC": 5.0, "room_max_degC": 40.0,
     "enthalpy_rel_to_reference": 0.3,  # |ΔH/ΔH_ref - 1| above this is implausible
     "enthalpy_min_kJ": 10.0, "enthalpy_max_kJ": 80.0,  # without a reference
+    # conditioning of the method itself
+    "max_amplification": 25.0,  # P_total/p_vap at a point: p_vap that much less certain than V
+    "max_vapor_fraction": 0.8,  # p_vap/P_total at a point: the bubble runs away near boiling
 }
 
 AIR_REFERENCE_REASON = "used for the air amount (cold reference)"

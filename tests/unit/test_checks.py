@@ -72,3 +72,17 @@ def test_unit_slips_are_named_with_their_number():
         vpkit.errors.ImplausibleValueWarning
     assert "room temperature?" in a.results()["flags"].iloc[0]
     assert "implausible ΔH_vap" in a.results()["flags"].iloc[0]
+
+
+def test_where_the_method_is_ill_conditioned():
+    """Water at 15 degC: p_vap (1.7 kPa, IAPWS-95) is under 2 % of the gas pressure, so its
+    relative error is about 60 times the volume's; acetone near 50 degC (p_vap about
+    82 kPa, Poling et al. 2001) is close to boiling. Thresholds: common practice, no source."""
+    cold = vpkit.analyze(make_run("water", (15, 25, 35, 45, 55)), warn=False)
+    amp = [w for w in cold.warnings if "times the volume reading's" in w]
+    assert amp and "at 15.00 degC" in amp[0] and "amplified error" in cold.results()["flags"][0]
+    hot = vpkit.analyze(make_run("acetone", (25, 30, 35, 40, 45, 50)), warn=False)
+    near = [w for w in hot.warnings if "close to boiling" in w]
+    assert near and "at 50.00 degC" in near[0] and "grown" in near[0]
+    calm = vpkit.analyze(make_run("ethanol", (35, 40, 45, 50, 55, 60)), warn=False)
+    assert not [w for w in calm.warnings if "times the volume" in w or "close to boiling" in w]
