@@ -317,3 +317,29 @@ def test_values_no_measurement_can_have_are_refused_at_the_edge(entry, value, un
         load(text).to_si()
     assert info.value.column == entry and info.value.row is not None
     assert "check the value and its unit" in info.value.hint
+
+
+def test_hardening_regressions_from_the_fuzz_pass():
+    """Each class of failure a 12,000-input fuzz pass found (issue 'hardening') is now a
+    located vpkit error or a flagged result. Ranges: common practice, no source."""
+    water = load(sub("liquid,ethanol", "liquid,water").replace("liquid_density,reference",
+                                                               "liquid_density,0.998,g/mL"))
+    # water with the room at the freezing point: IAPWS-95 below its range, no library error
+    cold = load(sub("liquid,ethanol", "liquid,water").replace(
+        "room_temperature,21.0,degC,0.3", "room_temperature,1e-5,degC,0.3"))
+    a = vpkit.analyze(cold, warn=False)
+    assert "room temperature?" in a.results()["flags"].iloc[0]
+    # a barometer of 3.7 bar: possible, but the unit is probably wrong -> flagged
+    high = load(sub("barometric_pressure,100.2,kPa,0.1", "barometric_pressure,3.737,bar,0.001"))
+    try:
+        flags = vpkit.analyze(high, warn=False).results()["flags"].iloc[0]
+    except VpkitError as exc:  # or refused outright, with its place
+        flags = str(exc)
+    assert "barometer?" in flags or "row" in flags
+    # all points at one temperature: a singular fit is a FitError, not a LinAlgError
+    flat = load(BASE.replace("30.0,2.089", "25.0,2.089").replace("35.0,2.216", "25.0,2.216")
+                .replace("40.0,2.389", "25.0,2.389").replace("45.0,2.627", "25.0,2.627")
+                .replace("50.0,2.965", "25.0,2.965"))
+    with pytest.raises(FitError, match="singular"):
+        vpkit.analyze(flat, warn=False)
+    assert water.n_points == 6
