@@ -202,11 +202,6 @@ def _water_ln_p(T, derivative: bool = False):
         return cs(xc) + d1 * (x - xc)
 
 
-def iapws95_available() -> bool:
-    """IAPWS-95 for water is always available (bundled table, see [4])."""
-    return True
-
-
 @functools.cache
 def iapws95_curve() -> ReferenceCurve:
     """Saturation pressure of water from IAPWS-95 (bundled table, see [4])."""

@@ -71,6 +71,15 @@ def _check(fn, failures, key):
         failures.append((key, f"{type(exc).__name__}: {exc}"[:300]))
 
 
+def _verdict(what, failures, absurd, capfd):
+    _, err = capfd.readouterr()
+    print(f"{what}: {len(failures)} unexpected exceptions, {len(absurd)} absurd results "
+          "without a flag")
+    assert not failures, failures[:5]
+    assert not absurd, absurd[:5]
+    assert err == "", err[:500]
+
+
 @pytest.mark.long
 def test_mutated_run_files(capfd):
     texts = [p.read_text() for p in sorted((ROOT / "data" / "demo").glob("*.csv"))]
@@ -90,12 +99,7 @@ def test_mutated_run_files(capfd):
                 absurd.append((k, row["ΔH_vap [kJ/mol]"]))
 
         _check(one, failures, k)
-    out, err = capfd.readouterr()
-    print(f"{N_FILES} mutated run files: {len(failures)} unexpected exceptions, "
-          f"{len(absurd)} absurd results without a flag")
-    assert not failures, failures[:5]
-    assert not absurd, absurd[:5]
-    assert err == "", err[:500]
+    _verdict(f"{N_FILES} mutated run files", failures, absurd, capfd)
 
 
 @pytest.mark.long
@@ -119,9 +123,4 @@ def test_mutated_long_tables(capfd):
                           if _absurd_unflagged(row))
 
         _check(one, failures, k)
-    _, err = capfd.readouterr()
-    print(f"{N_TABLES} mutated long tables: {len(failures)} unexpected exceptions, "
-          f"{len(absurd)} absurd results without a flag")
-    assert not failures, failures[:5]
-    assert not absurd, absurd[:5]
-    assert err == "", err[:500]
+    _verdict(f"{N_TABLES} mutated long tables", failures, absurd, capfd)
