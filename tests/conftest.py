@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from vpkit.reference import antoine_curve, liquid_density
+from vpkit.reference import liquid_density, reference_curve
 from vpkit.simulate import simulate_run
 
 
@@ -17,7 +17,7 @@ def _headless_matplotlib(monkeypatch, tmp_path):
 
 def make_run(liquid="2-propanol", t_c=(25, 30, 35, 40, 45, 50, 55, 60), curve=None, **kw):
     """A noise-free simulated run of ``liquid`` from a published curve."""
-    curve = curve or antoine_curve(liquid)
+    curve = curve or reference_curve(liquid)
     T_room = kw.pop("T_room", 294.15)
     kw.setdefault("density", float(liquid_density(liquid, T_room)))
     return simulate_run(curve.p, np.asarray(t_c, float) + 273.15, liquid=liquid,

@@ -22,9 +22,10 @@ def _options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--air-from", default="weighed", choices=["weighed", "cold", "injected"])
     p.add_argument("--vapor-at-air-reference", default="auto",
                    choices=["auto", "reference", "fit", "neglect"])
-    p.add_argument("--reference", default="auto", choices=["auto", "antoine", "iapws95", "none"],
+    p.add_argument("--reference", default="auto",
+                   choices=["auto", "antoine", "ppds", "iapws95", "none"],
                    help="reference equation for the comparison (auto: IAPWS-95 for water, "
-                   "the bundled Antoine set otherwise)")
+                   "the PPDS equation for 2-propanol and 1-butanol, the Antoine set otherwise)")
     p.add_argument("--no-head", action="store_true", help="ignore the hydrostatic head")
     p.add_argument("--ignore-session", action="store_true",
                    help="analyse the run files as written, without their saved exclusions")

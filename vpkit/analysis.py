@@ -352,7 +352,7 @@ def analyze(
         Count the trapped gas's mass in the weighing.
     exclude : mapping index -> reason, or iterable of indices
         Points to leave out of the fit, on top of the run's own flags.
-    reference : {"auto", "antoine", "iapws95"} or None
+    reference : {"auto", "antoine", "ppds", "iapws95"} or None
         Reference equation for the comparison (None: no comparison).
     reference_liquid : str, optional
         Compare with another liquid's equation (default: the run's liquid).

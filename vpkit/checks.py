@@ -194,6 +194,14 @@ def _reference_checks(res, add, out, span) -> None:
     for r in np.flatnonzero(ok & (n_out > 0)):
         out[r].append(Finding("outside reference range", ReferenceRangeWarning,
                               outside_range_text(res.resolved.compare_curve[r], int(n_out[r]))))
+    own = res.resolved.own_curve
+    lo, hi = own.bound("T_min"), own.bound("T_max")
+    T_ref = res.T_ref
+    add((res.resolved.vapor_mode == "reference") & ((T_ref < lo) | (T_ref > hi)),
+        "air reference outside range", ReferenceRangeWarning, lambda r: (
+            f"p_vap at the air reference ({_t(T_ref[r])}, {res.p_ref[r]:.4g} Pa) comes from "
+            f"{own[r].label} outside its range {_t(lo[r])} to {_t(hi[r])}: extrapolated (use "
+            "vapor_at_air_reference='fit', or another reference)"))
     for r in np.flatnonzero(ok):
         for note in res.resolved.notices[r]:
             out[r].append(Finding("", note.category, str(note)))

@@ -8,8 +8,9 @@ entry point calls these two, so ``"auto"`` means the same everywhere:
 
 - ``vapor_at_air_reference="auto"``: the published equation when the liquid
   has one, else self-consistent with the fit (``"fit"``);
-- ``reference="auto"``: IAPWS-95 for water, the bundled Antoine set for the
-  other liquids (:func:`vpkit.reference.reference_curve`).
+- ``reference="auto"``: IAPWS-95 for water, the bundled PPDS equation for
+  2-propanol and 1-butanol, the Antoine set for the other liquids
+  (:func:`vpkit.reference.reference_curve`).
 
 References
 ----------
@@ -69,7 +70,7 @@ class Choices:
     cold_index : int or None
         Point used as the cold reference (default: the coldest).
     use_head, gas_mass, temperature_errors : bool
-    reference : {"auto", "antoine", "iapws95"} or None
+    reference : {"auto", "antoine", "ppds", "iapws95"} or None
         Reference equation for the comparison (None: no comparison).
     reference_liquid : str or None
         Compare with another liquid's equation (default: the run's liquid).
@@ -211,7 +212,7 @@ def _curves(stack, choices, fail, notices):
     for liquid in has:
         rows = np.flatnonzero(liquids == liquid)
         mine = None if not has[liquid] else refmod.reference_curve(
-            liquid, source if source != "iapws95" or is_water(liquid) else "antoine")
+            liquid, source if refmod.has_source(liquid, source) else "auto")
         target = choices.reference_liquid or liquid
         curve, note, error = None, None, None
         if choices.reference is None:
@@ -222,6 +223,9 @@ def _curves(stack, choices, fail, notices):
         elif source == "iapws95" and not is_water(target):
             error = BadValueError(f"IAPWS-95 describes water, not {target!r}",
                                   column="reference", hint="use reference='auto'")
+        elif not refmod.has_source(target, source):
+            error = BadValueError(f"no bundled {source} equation for {target!r}",
+                                  column="reference", hint="use reference='auto' or 'antoine'")
         else:
             curve = refmod.reference_curve(target, source)
             if choices.reference_liquid and (not has[liquid] or refmod.canonical_name(

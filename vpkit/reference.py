@@ -18,6 +18,9 @@ References
    273.16 K to 473.16 K and bundled as ``vpkit/data/water_iapws95_psat.csv``;
    ln p is interpolated in 1/T by a cubic spline (error below 1e-10, checked
    against ``iapws`` in tests/reference/test_iapws95.py).
+.. [5] VDI Heat Atlas, 2nd ed., Springer (2010), chapter D3.1: PPDS equation 3
+   for the saturation pressure, ln(p/P_c) = (T_c/T)(A τ + B τ^1.5 + C τ^2.5 + D τ^5),
+   τ = 1 - T/T_c (the form of W. Wagner, Cryogenics 13, 470-482 (1973)).
 """
 
 from __future__ import annotations
@@ -49,6 +52,13 @@ def antoine_table() -> pd.DataFrame:
 def density_table() -> pd.DataFrame:
     """The bundled PPDS density table (see ``vpkit/data/density_vdi_ppds.csv``)."""
     with resources.files("vpkit.data").joinpath("density_vdi_ppds.csv").open("r") as fh:
+        return pd.read_csv(fh, comment="#", dtype={"cas": str})
+
+
+@functools.cache
+def ppds_table() -> pd.DataFrame:
+    """The bundled PPDS vapor-pressure table (see ``vpkit/data/psat_vdi_ppds.csv``)."""
+    with resources.files("vpkit.data").joinpath("psat_vdi_ppds.csv").open("r") as fh:
         return pd.read_csv(fh, comment="#", dtype={"cas": str})
 
 
@@ -117,6 +127,8 @@ class ReferenceCurve:
             a, b, c = self._coef  # ln p = a - b / (T + c), SI
             with np.errstate(divide="ignore", invalid="ignore"):
                 return a - b / (T + c)
+        if self._kind == "ppds":
+            return _ppds_ln_p(T, self._coef)
         return _water_ln_p(T)
 
     def p(self, T):
@@ -129,6 +141,8 @@ class ReferenceCurve:
         if self._kind == "antoine":
             _, b, c = self._coef
             return b / (T + c) ** 2
+        if self._kind == "ppds":
+            return _ppds_ln_p(T, self._coef, derivative=True)
         return _water_ln_p(T, derivative=True)
 
     def apparent_enthalpy(self, T):
@@ -149,6 +163,8 @@ class ReferenceCurve:
         if self._kind == "antoine":
             _, b, c = self._coef
             lo = max(lo, -c + 1.0)
+        elif self._kind == "ppds":
+            lo, hi = self.T_min, self._coef[0] * (1.0 - 1e-9)
         else:
             lo, hi = self.T_min, self.T_max
         return float(brentq(lambda t: float(self.ln_p(t)) - target, lo, hi, xtol=1e-10))
@@ -172,6 +188,34 @@ def antoine_curve(liquid: str) -> ReferenceCurve:
     T_max = float(to_si(float(row["T_max"]), row["T_unit"], "temperature"))
     return ReferenceCurve(str(row["liquid"]), f"Antoine ({row['source']})", str(row["source"]),
                           T_min, T_max, "antoine", (a, b, c))
+
+
+def _ppds_ln_p(T, coef, derivative: bool = False):
+    """PPDS equation 3 [5] (or its T derivative); NaN at and above T_c."""
+    T_c, P_c, A, B, C, D = coef
+    T = np.asarray(T, float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        tau = np.where(T < T_c, 1.0 - T / T_c, np.nan)
+        f = A * tau + B * tau**1.5 + C * tau**2.5 + D * tau**5
+        if not derivative:
+            return math.log(P_c) + f * T_c / T
+        df = A + 1.5 * B * tau**0.5 + 2.5 * C * tau**1.5 + 5.0 * D * tau**4
+        return -(df / T + f * T_c / T**2)  # d/dT of (T_c/T) f(1 - T/T_c)
+
+
+@functools.cache
+def ppds_curve(liquid: str) -> ReferenceCurve:
+    """The bundled PPDS vapor-pressure equation [5] for ``liquid``."""
+    name = canonical_name(liquid)
+    hit = ppds_table()[ppds_table()["liquid"] == name]
+    if hit.empty:
+        raise BadValueError(f"no bundled PPDS vapor-pressure equation for {liquid!r}",
+                            column="reference", hint="PPDS sets are bundled for "
+                            + ", ".join(ppds_table()["liquid"]) + "; use reference='auto'")
+    r = hit.iloc[0]
+    coef = tuple(float(r[k]) for k in ("T_c", "P_c", "A", "B", "C", "D"))
+    return ReferenceCurve(name, f"PPDS ({r['source']})", str(r["source"]), float(r["T_min"]),
+                          float(r["T_max"]), "ppds", coef)
 
 
 @functools.cache
@@ -209,7 +253,20 @@ def iapws95_curve() -> ReferenceCurve:
                           473.16, "iapws95", ())
 
 
-REFERENCE_SOURCES = ("auto", "antoine", "iapws95")
+REFERENCE_SOURCES = ("auto", "antoine", "ppds", "iapws95")
+
+
+def has_source(liquid: str, source: str) -> bool:
+    """Whether ``source`` has an equation for ``liquid`` ("auto" and "antoine": any
+    bundled liquid)."""
+    if not has_reference(liquid):
+        return False
+    name = canonical_name(liquid)
+    if source == "iapws95":
+        return name == "water"
+    if source == "ppds":
+        return name in set(ppds_table()["liquid"])
+    return True
 
 
 @functools.cache
@@ -218,8 +275,9 @@ def reference_curve(liquid: str, source: str = "auto") -> ReferenceCurve:
 
     Parameters
     ----------
-    source : {"auto", "antoine", "iapws95"}
-        "auto" takes IAPWS-95 for water and the bundled Antoine set otherwise.
+    source : {"auto", "antoine", "ppds", "iapws95"}
+        "auto" takes IAPWS-95 for water, the bundled PPDS equation [5] where
+        there is one (2-propanol, 1-butanol) and the Antoine set otherwise.
     """
     if source not in REFERENCE_SOURCES:
         raise BadValueError(f"reference must be one of {', '.join(REFERENCE_SOURCES)} or None, "
@@ -229,6 +287,8 @@ def reference_curve(liquid: str, source: str = "auto") -> ReferenceCurve:
                             hint="use reference='auto' or 'antoine'")
     if source in ("iapws95", "auto") and canonical_name(liquid) == "water":
         return iapws95_curve()
+    if source == "ppds" or (source == "auto" and has_source(liquid, "ppds")):
+        return ppds_curve(liquid)
     return antoine_curve(liquid)
 
 

@@ -3,8 +3,9 @@
 INVENTED DATA. Scenario (our own): a solvent-recovery group checks that
 2-propanol recovered by distillation behaves like fresh solvent, and checks
 the tube with a water run first. The readings are simulated from the bundled
-published Antoine equations (Poling et al. 2001) through vpkit's forward model
-with realistic reading noise; they are not measurements.
+published equations (``reference_curve``: IAPWS-95 for water, the VDI Heat Atlas
+PPDS equation for 2-propanol) through vpkit's forward model with realistic
+reading noise; they are not measurements.
 
 Run: python data/demo/generate.py
 """
@@ -13,17 +14,17 @@ from pathlib import Path
 
 import numpy as np
 
-from vpkit.reference import antoine_curve, liquid_density
-from vpkit.run import write_run
+from vpkit.reference import liquid_density, reference_curve
+from vpkit.runfile import write_run
 from vpkit.simulate import NOISE, simulate_run
 
 HERE = Path(__file__).parent
-NOTE = ("# INVENTED DEMO DATA: simulated from a published Antoine equation with reading "
-        "noise; not a measurement.",)
+NOTE = ("# INVENTED DEMO DATA: simulated from a published vapor-pressure equation with "
+        "reading noise; not a measurement.",)
 
 
 def make(name, liquid, T_c, seed, **kw):
-    curve = antoine_curve(liquid)
+    curve = reference_curve(liquid)
     T_room = kw.pop("T_room", 294.35)
     run = simulate_run(curve.p, np.asarray(T_c) + 273.15, liquid=liquid, T_room=T_room,
                        density=float(liquid_density(liquid, T_room)), noise=NOISE,

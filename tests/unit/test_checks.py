@@ -86,3 +86,15 @@ def test_where_the_method_is_ill_conditioned():
     assert near and "at 50.00 degC" in near[0] and "grown" in near[0]
     calm = vpkit.analyze(make_run("ethanol", (35, 40, 45, 50, 55, 60)), warn=False)
     assert not [w for w in calm.warnings if "times the volume" in w or "close to boiling" in w]
+
+
+def test_air_reference_outside_the_equation_range_is_named():
+    """The Poling et al. (2001) Antoine set for 1-butanol holds from 310.18 K (37.03 degC);
+    a weighed air amount at a 21 degC room takes p_vap there by extrapolation."""
+    run = make_run("1-butanol", (40, 45, 50, 55, 60, 65), T_room=294.15)
+    a = vpkit.analyze(run, reference="antoine", vapor_at_air_reference="reference", warn=False)
+    hit = [w for w in a.warnings if "air reference" in w and "outside its range" in w]
+    assert hit and "21.00 degC" in hit[0] and "37.03 degC" in hit[0]
+    assert "air reference outside range" in a.results()["flags"][0]
+    ok = vpkit.analyze(run, vapor_at_air_reference="reference", warn=False)  # PPDS: wide range
+    assert not [w for w in ok.warnings if "outside its range" in w]

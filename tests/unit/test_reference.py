@@ -42,3 +42,34 @@ def test_comparison_warns_outside_validity():
 def test_names_people_type(typed, name):
     """Synonyms and CAS numbers as in the Poling et al. (2001) table and common usage."""
     assert canonical_name(typed) == name
+
+
+def test_ppds_equation_by_hand():
+    """PPDS equation 3 of the VDI Heat Atlas (2010) D3.1 with the bundled 2-propanol row,
+    evaluated by hand; its T derivative against a central difference."""
+    from vpkit.reference import ppds_curve, reference_curve
+
+    c = ppds_curve("isopropanol")
+    assert reference_curve("2-propanol") == c and c.label.startswith("PPDS")
+    T, Tc, Pc = 313.15, 508.25, 4.762e6
+    tau = 1 - T / Tc
+    f = -8.44737 * tau + 1.17402 * tau**1.5 - 6.97876 * tau**2.5 + 0.69248 * tau**5
+    assert c.p(T) == pytest.approx(Pc * math.exp(f * Tc / T), rel=1e-13)
+    h = 1e-3
+    slope = (c.ln_p(T + h) - c.ln_p(T - h)) / (2 * h)
+    assert c.dlnp_dT(T) == pytest.approx(slope, rel=1e-8)
+    assert c.p(Tc + 1.0) != c.p(Tc + 1.0)  # NaN above the critical point
+    assert c.ln_p(c.boiling_point(101325.0)) == pytest.approx(math.log(101325.0), abs=1e-9)
+
+
+def test_auto_reference_per_liquid():
+    """The one-source-per-liquid rule of reference='auto' (METHOD 5)."""
+    from vpkit.reference import has_source, reference_curve
+
+    assert reference_curve("water").label == "IAPWS-95"
+    assert reference_curve("1-butanol").label.startswith("PPDS")
+    assert reference_curve("ethanol").label.startswith("Antoine")
+    assert reference_curve("2-propanol", "antoine").label.startswith("Antoine")
+    assert has_source("2-propanol", "ppds") and not has_source("ethanol", "ppds")
+    with pytest.raises(InputError, match="no bundled PPDS"):
+        reference_curve("ethanol", "ppds")
