@@ -25,8 +25,9 @@ from .report import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, m
 SUMMARY_COLUMNS = ["run_id", "liquid", "points used", "points total", "T_min [degC]",
                    "T_max [degC]", "ΔH_vap [kJ/mol]", "reference ΔH_vap at T_m [kJ/mol]",
                    "deviation from reference [u]", "T_b at 101.325 kPa [degC]",
-                   "measured - predicted T_b [K]", "ΔS_vap at T_b [J/(mol K)]",
-                   "reduced chi2", "flags", "status"]
+                   "T_b bias at 101.325 kPa [K]", "measured - predicted T_b [K]",
+                   "true ΔvapH at T_m [kJ/mol]", "published ΔvapH at T_m [kJ/mol]",
+                   "ΔS_vap at T_b [J/(mol K)]", "reduced chi2", "flags", "status"]
 
 
 def methods_paragraph(many) -> str:
@@ -53,7 +54,12 @@ def methods_paragraph(many) -> str:
         f"{vap}. ΔH_vap was obtained from a {ok['model'].iloc[0] if len(ok) else c.model} fit "
         f"of ln p against T by {WEIGHT_TEXT[c.weighting]}; it is the apparent value (ideal "
         "vapor, liquid volume neglected) at T_m, the mean of 1/T weighted as the fit weighs "
-        "the points. Uncertainties are standard "
+        "the points. The true ΔvapH is the apparent value times Δz = 1 + p(B − V_l)/(RT), "
+        "with the second virial coefficient B from the Tsonopoulos correlation and the "
+        "liquid molar volume V_l, compared with PPDS equation 12 of the VDI Heat Atlas; "
+        "ΔS_vap at the normal boiling point is the true ΔvapH there over T_b. The model's "
+        "extrapolation bias of T_b is the same fit made to the published curve at the run's "
+        "temperatures, minus where the curve boils. Uncertainties are standard "
         "uncertainties from linear propagation of the reading, thermometer, barometer, balance "
         "and density uncertainties; the parameter covariance was scaled by the reduced χ² "
         "where χ² exceeded its 95th percentile. Reference equations: "

@@ -213,13 +213,24 @@ def _reference_checks(res, add, out, span) -> None:
         lambda r: (f"ΔH_vap differs from the reference ({res.resolved.compare_curve[r].label}) "
                    f"by {dev_u[r]:+.1f} u ({dev_pct[r]:+.1f} %), more than "
                    f"{lim['max_deviation_u']:g} u"))
+    bias, u_bias = res.bias_T_b_normal, res.u_bias_T_b_normal
+    bias_run = res.bias_T_b_run
+
+    def bias_note(b, r):
+        return (f"; the model's own extrapolation bias there is {b[r]:+.2f} K (from the "
+                f"{res.bias_from[r]})" if np.isfinite(b[r]) else "")
+
     add(np.abs(gap) > lim["max_boiling_gap_K"], "boiling point gap", ReferenceDeviationWarning,
         lambda r: (f"measured boiling point differs from the predicted one by {gap[r]:+.2f} K "
-                   f"(more than {lim['max_boiling_gap_K']:g} K)"))
-    add(beyond > np.maximum(lim["extrapolation_K"], span), "extrapolated T_b",
-        ExtrapolationWarning, lambda r: (
-            f"the normal boiling point ({_t(res.T_b_normal[r])}) lies {beyond[r]:.0f} K beyond "
-            "the highest point: an extrapolation"))
+                   f"(more than {lim['max_boiling_gap_K']:g} K)" + bias_note(bias_run, r)))
+    far = beyond > np.maximum(lim["extrapolation_K"], span)
+    biased = np.abs(bias) > res.u_T_b_normal
+    add(far | biased, "extrapolated T_b", ExtrapolationWarning, lambda r: (
+        f"the normal boiling point ({_t(res.T_b_normal[r])}) lies {beyond[r]:.1f} K beyond "
+        "the highest point: an extrapolation"
+        + (f"; the model's own bias there, {bias[r]:+.2f} ± {u_bias[r]:.2f} K (from the "
+           f"{res.bias_from[r]}), exceeds u(T_b) = {res.u_T_b_normal[r]:.2f} K"
+           if biased[r] else bias_note(bias, r))))
 
 
 def _fit_checks(res, add) -> None:

@@ -26,6 +26,7 @@ from types import MappingProxyType
 
 import numpy as np
 
+from . import derived
 from . import reference as refmod
 from .choices import AIR_REFERENCE_REASON, Choices, Resolved, resolve
 from .constants import P_STANDARD
@@ -67,10 +68,21 @@ class StackResult:
     jacobian : ndarray (R, N, m)
         d ln p_vap / d inputs (with the self-consistent dependence added).
     fit : StackFit
-    enthalpy, u_enthalpy, T_b_run, u_T_b_run, T_b_normal, u_T_b_normal,
+    enthalpy, u_enthalpy, T_b_run, u_T_b_run, T_b_normal, u_T_b_normal : ndarray (R,)
+        Apparent ΔH_vap at T_m [J/mol], boiling points at the run's pressure and
+        at 101.325 kPa [K].
+    true_enthalpy, u_true_enthalpy, delta_z, reference_true_enthalpy : ndarray (R,)
+        True ΔvapH at T_m [J/mol] (:func:`vpkit.derived.true_enthalpy`), the factor
+        Δz used, and the published ΔvapH at T_m (NaN where none is bundled).
     entropy, u_entropy : ndarray (R,)
-        ΔH_vap at T_m [J/mol], boiling points at the run's pressure and at
-        101.325 kPa [K], ΔS_vap at the normal boiling point [J/(mol K)].
+        ΔS_vap at the normal boiling point [J/(mol K)], from the true ΔvapH there
+        (:func:`vpkit.derived.entropy_at_boiling`, at T_b corrected for the
+        model's bias where it is estimated); ``entropy_from`` says how ΔH was
+        carried to T_b.
+    bias_T_b_normal, u_bias_T_b_normal, bias_T_b_run, u_bias_T_b_run : ndarray (R,)
+        The model's extrapolation bias of each boiling point [K] (fitted minus
+        true; :func:`vpkit.derived.boiling_point_bias`); ``bias_from`` says from
+        what (empty where not estimated).
     comparison : dict of ndarray
         See :func:`vpkit.reference.compare_stack` (NaN without a curve).
     self_consistent_rounds : ndarray of int (R,)
@@ -109,8 +121,18 @@ class StackResult:
     u_T_b_run: np.ndarray
     T_b_normal: np.ndarray
     u_T_b_normal: np.ndarray
+    true_enthalpy: np.ndarray
+    u_true_enthalpy: np.ndarray
+    delta_z: np.ndarray
+    reference_true_enthalpy: np.ndarray
     entropy: np.ndarray
     u_entropy: np.ndarray
+    entropy_from: np.ndarray
+    bias_T_b_normal: np.ndarray
+    u_bias_T_b_normal: np.ndarray
+    bias_T_b_run: np.ndarray
+    u_bias_T_b_run: np.ndarray
+    bias_from: np.ndarray
     comparison: dict = field(repr=False)
     self_consistent_rounds: np.ndarray
     self_consistent_error: np.ndarray
@@ -218,7 +240,19 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
     dH, u_dH, _ = fit.enthalpy()
     Tb_run, u_run, _, _ = fit.boiling_point(stack.scalar["P_bar"])
     Tb_n, u_n, _, _ = fit.boiling_point(P_STANDARD)
-    dS, u_dS, _ = fit.entropy_at_boiling()
+    liquids = [refmod.canonical_name(x) if refmod.has_reference(x) else x
+               for x in stack.liquid]
+    p_m = np.exp(fit.model.f(fit.T_m, fit.params))
+    true = derived.true_enthalpy(liquids, fit.T_m, p_m, dH, u_dH)
+    own = res.own_curve
+    on_curve = None
+    if own.has.any():  # the same fit on the published curves: the model's own error
+        y_ref = np.where(own.has[:, None], own.ln_p(np.where(stack.mask, stack.T, 300.0)), 0.0)
+        on_curve = fit_stack(choices.model, T, y_ref, fit_inc, weighting=choices.weighting,
+                             cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T)
+    bias_n = derived.boiling_point_bias(fit, own, P_STANDARD, on_curve)
+    bias_r = derived.boiling_point_bias(fit, own, stack.scalar["P_bar"], on_curve)
+    ent = derived.entropy_at_boiling(fit, liquids, own, P_STANDARD, bias_n["bias"])
     cmp = refmod.compare_stack(res.compare_curve, T, nominal["p_vap"], fit_inc, fit.T_m)
     u_p = np.sqrt(np.einsum("bii->bi", cov_y)) * nominal["p_vap"]
     u_own = _point_only_uncertainty(layout, out["J"], fit)
@@ -237,8 +271,15 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
         point_flags=MappingProxyType({k: ro(v) for k, v in flags.items()}),
         layout=layout, jacobian=ro(J_full), fit=fit, enthalpy=nan_bad(dH),
         u_enthalpy=nan_bad(u_dH), T_b_run=nan_bad(Tb_run), u_T_b_run=nan_bad(u_run),
-        T_b_normal=nan_bad(Tb_n), u_T_b_normal=nan_bad(u_n), entropy=nan_bad(dS),
-        u_entropy=nan_bad(u_dS), comparison=MappingProxyType({k: ro(v) for k, v in cmp.items()}),
+        T_b_normal=nan_bad(Tb_n), u_T_b_normal=nan_bad(u_n),
+        true_enthalpy=nan_bad(true["value"]), u_true_enthalpy=nan_bad(true["u"]),
+        delta_z=nan_bad(true["delta_z"]), reference_true_enthalpy=ro(true["reference"]),
+        entropy=nan_bad(ent["value"]), u_entropy=nan_bad(ent["u"]),
+        entropy_from=ro(np.where(bad, "", ent["carried_by"]).astype(object)),
+        bias_T_b_normal=nan_bad(bias_n["bias"]), u_bias_T_b_normal=nan_bad(bias_n["u"]),
+        bias_T_b_run=nan_bad(bias_r["bias"]), u_bias_T_b_run=nan_bad(bias_r["u"]),
+        bias_from=ro(np.where(bad, "", bias_n["from"]).astype(object)),
+        comparison=MappingProxyType({k: ro(v) for k, v in cmp.items()}),
         self_consistent_rounds=ro(sc_rounds), self_consistent_error=ro(sc_err),
         robust_z=ro(z), point_only_u=ro(u_own))
     object.__setattr__(result, "findings", run_checks(result))

@@ -49,7 +49,7 @@ from scipy import stats
 from . import lsq
 from .constants import P_STANDARD
 from .errors import FitError
-from .fitresult import TROUTON_BAND, TROUTON_HBOND_BAND, FitResult, trouton_verdict  # noqa: F401
+from .fitresult import FitResult  # noqa: F401
 from .lsq import quad, readonly
 from .models import MODELS, Model, get_model  # noqa: F401  (MODELS re-exported)
 from .solve import (  # noqa: F401  (residual_covariance, solve_stack re-exported)
@@ -145,16 +145,6 @@ class StackFit:
             dfdT = self.model.df_dT(Tb, self.params)
             g = -self.model.jac(Tb, self.params) / dfdT[..., None]
         return Tb, quad(g, self.cov), g, 1.0 / dfdT
-
-    def entropy_at_boiling(self, P=P_STANDARD):
-        """ΔS_vap = ΔH_vap(T_b)/T_b at the boiling point for P: (value, u, gradient)."""
-        Tb, _, gT, _ = self.boiling_point(P)
-        m, th = self.model, self.params
-        with np.errstate(all="ignore"):
-            H = m.enthalpy(Tb, th)
-            gH = m.enthalpy_grad(Tb, th) + m.enthalpy_dT(Tb, th)[..., None] * gT
-            g = gH / Tb[..., None] - (H / Tb**2)[..., None] * gT
-            return H / Tb, quad(g, self.cov), g
 
     def curvature_text(self, r: int) -> str:
         m = self.model

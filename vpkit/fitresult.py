@@ -1,14 +1,15 @@
 """The fit of one data set: values with uncertainties a user can carry on with.
 
 :class:`FitResult` is a read-only view of one row of a
-:class:`vpkit.fit.StackFit`; its ΔH_vap, boiling points and ΔS_vap are
+:class:`vpkit.fit.StackFit`; its ΔH_vap and boiling points are
 ``uncertainties`` numbers correlated with the fitted parameters, built from the
-same values and gradients as the many-run table, so both agree exactly.
+same values and gradients as the many-run table, so both agree exactly. ΔS_vap at
+the boiling point and the true ΔvapH need more than the fit (the published curve,
+the virial correction): they are :mod:`vpkit.derived`'s, read from the results.
 
 References
 ----------
-.. [1] F. Trouton, Philos. Mag. 18, 54-57 (1884): Trouton's rule.
-.. [2] JCGM 100:2008 (GUM), section 5.2: linear propagation with correlations.
+.. [1] JCGM 100:2008 (GUM), section 5.2: linear propagation with correlations.
 """
 
 from __future__ import annotations
@@ -28,13 +29,6 @@ from .lsq import quad
 
 if TYPE_CHECKING:
     from .fit import StackFit
-
-#: Trouton's rule band for liquids without hydrogen bonding [J/(mol K)];
-#: from memory (textbook value 85-88 J/(mol K), about 10.5 R).
-TROUTON_BAND = (85.0, 88.0)
-#: Typical for hydrogen-bonded liquids (water, alcohols) [J/(mol K)]; from memory.
-TROUTON_HBOND_BAND = (100.0, 125.0)
-
 
 @dataclass(frozen=True)
 class FitResult:
@@ -151,30 +145,3 @@ class FitResult:
         if hasattr(pressure, "std_dev"):
             out = out + (pressure - Pn) / (Pn * dfdT)
         return out
-
-    def entropy_at_boiling(self, pressure=P_STANDARD):
-        """ΔS_vap = ΔH_vap(T_b)/T_b at the boiling point for ``pressure`` [J/(mol K)]."""
-        Tb = self.boiling_point(pressure)
-        m, th = self.model, self.params
-        t = Tb.nominal_value
-        dH = self._linear(float(m.enthalpy(t, th)), m.enthalpy_grad(t, th))
-        dH = dH + float(m.enthalpy_dT(t, th)) * (Tb - t)
-        return dH / Tb
-
-    def trouton_verdict(self) -> str:
-        """Plain-language comparison of ΔS_vap at the normal boiling point with Trouton's rule."""
-        s = self.entropy_at_boiling()
-        return trouton_verdict(s.nominal_value, s.std_dev)
-
-
-def trouton_verdict(v: float, u: float) -> str:
-    """Compare ΔS_vap = v ± u [J/(mol K)] with Trouton's rule (bands above, from memory)."""
-    lo, hi = TROUTON_BAND
-    if lo - 2 * u <= v <= hi + 2 * u:
-        return f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): within Trouton's rule ({lo:g}–{hi:g})"
-    hlo, hhi = TROUTON_HBOND_BAND
-    if v > hi and hlo - 2 * u <= v <= hhi + 2 * u:
-        return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): above Trouton's rule, as for "
-                f"hydrogen-bonded liquids ({hlo:g}–{hhi:g})")
-    return (f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K): outside Trouton's rule ({lo:g}–{hi:g}) "
-            f"and the hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")

@@ -20,7 +20,10 @@ References
    against ``iapws`` in tests/reference/test_iapws95.py).
 .. [5] VDI Heat Atlas, 2nd ed., Springer (2010), chapter D3.1: PPDS equation 3
    for the saturation pressure, ln(p/P_c) = (T_c/T)(A τ + B τ^1.5 + C τ^2.5 + D τ^5),
-   τ = 1 - T/T_c (the form of W. Wagner, Cryogenics 13, 470-482 (1973)).
+   τ = 1 - T/T_c (the form of W. Wagner, Cryogenics 13, 470-482 (1973)); and
+   PPDS equation 12 for the enthalpy of vaporization,
+   ΔvapH = R T_c (A τ^(1/3) + B τ^(2/3) + C τ + D τ² + E τ⁶), a correlation of
+   calorimetric and other measured values.
 """
 
 from __future__ import annotations
@@ -60,6 +63,45 @@ def ppds_table() -> pd.DataFrame:
     """The bundled PPDS vapor-pressure table (see ``vpkit/data/psat_vdi_ppds.csv``)."""
     with resources.files("vpkit.data").joinpath("psat_vdi_ppds.csv").open("r") as fh:
         return pd.read_csv(fh, comment="#", dtype={"cas": str})
+
+
+@functools.cache
+def hvap_table() -> pd.DataFrame:
+    """The bundled PPDS enthalpy-of-vaporization table (``vpkit/data/hvap_vdi_ppds.csv``)."""
+    with resources.files("vpkit.data").joinpath("hvap_vdi_ppds.csv").open("r") as fh:
+        return pd.read_csv(fh, comment="#", dtype={"cas": str})
+
+
+HVAP_SOURCE = "VDI Heat Atlas 2010 D3.1 (PPDS eq. 12)"
+
+
+def has_vaporization_enthalpy(liquid: str) -> bool:
+    """Whether a published ΔvapH(T) equation is bundled for ``liquid``."""
+    return has_reference(liquid) and canonical_name(liquid) in set(hvap_table()["liquid"])
+
+
+def vaporization_enthalpy(liquid: str, T):
+    """The true ΔvapH(T) [J/mol] of a bundled liquid from PPDS equation 12 [5]."""
+    t = hvap_table()
+    r = t[t["liquid"] == canonical_name(liquid)].iloc[0]
+    T_c = float(r["T_c"])
+    with np.errstate(invalid="ignore"):
+        tau = np.where(np.asarray(T, float) < T_c, 1.0 - np.asarray(T, float) / T_c, np.nan)
+        return R * T_c * (r["A"] * np.cbrt(tau) + r["B"] * np.cbrt(tau) ** 2 + r["C"] * tau
+                          + r["D"] * tau**2 + r["E"] * tau**6)
+
+
+def per_liquid(liquids, has, fn, *arrays) -> np.ndarray:
+    """``fn(liquid, *rows)`` for the rows of each distinct liquid (NaN where ``has`` is
+    False): one call per liquid, not per run."""
+    arrays = [np.asarray(a, float) for a in arrays]
+    out = np.full(arrays[0].shape, np.nan)
+    names = np.asarray(liquids, dtype=object)
+    for liq in set(names):
+        if has(liq):
+            sel = names == liq
+            out[sel] = fn(liq, *(a[sel] for a in arrays))
+    return out
 
 
 def liquids() -> list[str]:
@@ -368,6 +410,20 @@ class CurveSet:
     def boiling_point(self, P: float = P_STANDARD) -> np.ndarray:
         values = np.array([c.boiling_point(P) for c in self.curves] + [np.nan])
         return values[self.code]
+
+    def solve_T(self, ln_P, T_guess) -> np.ndarray:
+        """Where each run's curve reaches ln P (R,), by Newton steps from ``T_guess``
+        (NaN for runs without a curve or where the steps do not settle)."""
+        T = np.array(T_guess, float)
+        ln_P = np.broadcast_to(np.asarray(ln_P, float), T.shape)
+        with np.errstate(all="ignore"):
+            for _ in range(50):
+                step = (self.ln_p(T) - ln_P) / self._apply("dlnp_dT", T)
+                T = T - np.clip(step, -50.0, 50.0)
+                if not np.any(np.abs(step) > 1e-10 * np.abs(T)):
+                    break
+            ok = np.abs(self.ln_p(T) - ln_P) < 1e-9
+        return np.where(ok, T, np.nan)
 
 
 @functools.cache

@@ -49,6 +49,34 @@ def md_text(text) -> str:
     return text.replace("|", "\\|").replace("\n", " ").replace("`", "'")
 
 
+def bias_text(r) -> str:
+    """How far the normal boiling point lies beyond the data, and the model's bias there."""
+    beyond = r["T_b beyond data [K]"]
+    if beyond != beyond:  # NaN
+        return "not computed"
+    where = (f"T_b lies {D.number(beyond, 'K', 3)} beyond the highest point used"
+             if beyond > 0 else "T_b lies within the data")
+    if not r["T_b bias from"]:
+        return where + "; the model's bias there is not estimated"
+    return (where + "; the model's own bias there (fitted − true) is "
+            f"{D.value_u(r['T_b bias at 101.325 kPa [K]'], r['u(T_b bias) [K]'], 'K')} "
+            f"(from the {md_text(r['T_b bias from'])}), against u(T_b) = "
+            f"{D.number(r['u(T_b at 101.325 kPa) [K]'], 'K', 2)}")
+
+
+def true_text(r) -> str:
+    """The true ΔvapH with Δz and the published value it is compared with."""
+    v, u = r["true ΔvapH at T_m [kJ/mol]"], r["u(true ΔvapH) [kJ/mol]"]
+    if v != v:
+        return "not computed (no virial data bundled for this liquid)"
+    out = f"{D.value_u(v, u, 'kJ/mol')} (Δz = {D.number(r['Δz at T_m'], digits=4)})"
+    pub = r["published ΔvapH at T_m [kJ/mol]"]
+    if pub == pub:
+        out += (f"; PPDS eq. 12: {D.number(pub, 'kJ/mol')} "
+                f"({D.signed(r['true ΔvapH - published [%]'], '%')})")
+    return out
+
+
 def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
     """A Markdown summary: headline numbers, choices, exclusions, warnings, safety.
 
@@ -74,7 +102,10 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
         f"{D.value_u(r['T_b at run pressure [degC]'], r['u(T_b at run pressure) [K]'], 'degC')} |",
         f"| normal boiling point (101.325 kPa) | "
         f"{D.value_u(r['T_b at 101.325 kPa [degC]'], r['u(T_b at 101.325 kPa) [K]'], 'degC')} |",
-        f"| ΔS_vap at T_b | {dS} |",
+        f"| extrapolation | {bias_text(r)} |",
+        f"| true ΔvapH at T_m (virial and liquid-volume correction) | {true_text(r)} |",
+        f"| ΔS_vap at the normal T_b (true ΔvapH, carried by the "
+        f"{md_text(r['ΔH carried to T_b by']) or '-'}) | {dS} |",
         f"| reduced χ² | {D.number(f.chi2_reduced, digits=3)}"
         f"{' (covariance scaled by it)' if f.scaled else ''} |",
         f"| points used | {int(a.include.sum())} of {len(a.T)} |",
@@ -101,7 +132,10 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
               f"- hydrostatic head: {'on' if a.setup.use_head[0] else 'off'}; trapped-gas mass "
               f"in the weighing: {'on' if a.result.choices.gas_mass else 'off'}",
               "- ΔH_vap is the apparent (Clausius–Clapeyron) value: ideal vapor, liquid volume "
-              "neglected; the reference value is computed the same way from its curve.",
+              "neglected; the reference value is computed the same way from its curve. The "
+              "true ΔvapH is ΔH_vap·Δz, Δz = 1 + p(B − V_l)/(RT) with B from the Tsonopoulos "
+              "correlation and V_l from the PPDS density, compared with PPDS equation 12 "
+              "(VDI Heat Atlas 2010).",
               "- numbers are rounded so that a standard uncertainty keeps two significant "
               "digits (GUM 7.2.6); the CSV tables keep full precision."]
     excluded = [i for i in range(len(a.T)) if not a.include[i]]

@@ -14,7 +14,7 @@ import pandas as pd
 
 from .checks import flags_of
 from .constants import T_ZERO_C
-from .fit import trouton_verdict
+from .derived import trouton_verdict
 
 
 def results_table(res, rows=None) -> pd.DataFrame:
@@ -38,6 +38,8 @@ def results_columns(res, rows=None) -> dict:
         dH, u = res.enthalpy[idx], res.u_enthalpy[idx]
         ref = c["enthalpy"][idx]
         T_boil = s.scalar["T_boil"][idx]
+        beyond = res.T_b_normal[idx] - (t_max + T_ZERO_C)
+        true, pub = res.true_enthalpy[idx], res.reference_true_enthalpy[idx]
     curves = [res.resolved.compare_curve[i] for i in idx]
     all_ok = res.ok
     ok = all_ok[idx]
@@ -65,8 +67,19 @@ def results_columns(res, rows=None) -> dict:
         "u(T_b at run pressure) [K]": res.u_T_b_run[idx],
         "T_b at 101.325 kPa [degC]": res.T_b_normal[idx] - T_ZERO_C,
         "u(T_b at 101.325 kPa) [K]": res.u_T_b_normal[idx],
+        "T_b bias at run pressure [K]": res.bias_T_b_run[idx],
+        "T_b bias at 101.325 kPa [K]": res.bias_T_b_normal[idx],
+        "u(T_b bias) [K]": res.u_bias_T_b_normal[idx],
+        "T_b bias from": res.bias_from[idx],
+        "T_b beyond data [K]": beyond,
+        "true ΔvapH at T_m [kJ/mol]": true / 1e3,
+        "u(true ΔvapH) [kJ/mol]": res.u_true_enthalpy[idx] / 1e3,
+        "Δz at T_m": res.delta_z[idx],
+        "published ΔvapH at T_m [kJ/mol]": pub / 1e3,
+        "true ΔvapH - published [%]": 100 * (true / pub - 1),
         "ΔS_vap at T_b [J/(mol K)]": res.entropy[idx],
         "u(ΔS_vap) [J/(mol K)]": res.u_entropy[idx],
+        "ΔH carried to T_b by": res.entropy_from[idx],
         "Trouton": [trouton_verdict(res.entropy[i], res.u_entropy[i]) if all_ok[i] else ""
                     for i in idx],
         "barometric pressure [kPa]": s.scalar["P_bar"][idx] / 1e3,
@@ -96,7 +109,8 @@ def results_columns(res, rows=None) -> dict:
 
 
 #: Columns computed by the analysis (blank for runs that could not be analysed).
-_COMPUTED = ("T_min [degC]", "T_max [degC]", "T_m [K]", "n_air [mmol]",
+_COMPUTED = ("T_min [degC]", "T_max [degC]", "T_m [K]", "n_air [mmol]", "T_b beyond data [K]",
+             "published ΔvapH at T_m [kJ/mol]",
              "p_vap at air reference [Pa]", "reference ΔH_vap at T_m [kJ/mol]",
              "reference chord ΔH_vap [kJ/mol]", "reference T_b at 101.325 kPa [degC]",
              "measured - predicted T_b [K]")
@@ -109,8 +123,12 @@ RESULT_COLUMNS = (
     "ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]", "reduced chi2", "covariance scaled by chi2",
     "covariance from",
     "T_b at run pressure [degC]", "u(T_b at run pressure) [K]", "T_b at 101.325 kPa [degC]",
-    "u(T_b at 101.325 kPa) [K]", "ΔS_vap at T_b [J/(mol K)]", "u(ΔS_vap) [J/(mol K)]",
-    "Trouton", "barometric pressure [kPa]", "n_air [mmol]", "p_vap at air reference [Pa]",
+    "u(T_b at 101.325 kPa) [K]", "T_b bias at run pressure [K]", "T_b bias at 101.325 kPa [K]",
+    "u(T_b bias) [K]", "T_b bias from", "T_b beyond data [K]", "true ΔvapH at T_m [kJ/mol]",
+    "u(true ΔvapH) [kJ/mol]", "Δz at T_m", "published ΔvapH at T_m [kJ/mol]",
+    "true ΔvapH - published [%]", "ΔS_vap at T_b [J/(mol K)]", "u(ΔS_vap) [J/(mol K)]",
+    "ΔH carried to T_b by", "Trouton", "barometric pressure [kPa]", "n_air [mmol]",
+    "p_vap at air reference [Pa]",
     "self-consistent rounds", "measured T_b [degC]", "measured - predicted T_b [K]",
     "reference", "reference ΔH_vap at T_m [kJ/mol]", "reference chord ΔH_vap [kJ/mol]",
     "deviation from reference [%]", "deviation from reference [u]",

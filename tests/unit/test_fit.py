@@ -115,12 +115,3 @@ def test_ill_conditioned_antoine_warns():
     assert any("ill-conditioned" in w for w in r.warnings)
     r_cc = fit_points(t, y, weighting="weighted", cov_y=np.eye(5) * 1e-4)
     assert not r_cc.warnings
-
-
-def test_trouton_verdict():
-    # ΔS = ΔH/T_b; line through ln p = ln(101325) at 350 K with ΔH = 30 kJ/mol -> 85.7
-    b = -30000 / R
-    a = np.log(101325.0) - b / 350.0
-    r = fit_points(T, a + b / T + 1e-4 * np.sin(T), weighting="ordinary")
-    assert r.entropy_at_boiling().nominal_value == pytest.approx(30000 / 350, rel=1e-3)
-    assert "within Trouton" in r.trouton_verdict()

@@ -1,14 +1,12 @@
 """One data set's fit: uncertain numbers built from the same values and gradients as
-the many-set arrays, and Trouton's bands. Expected values: the many-set arrays of
-the same fit (they must agree), the uncertainties package's own propagation, and the
-bands stated in vpkit.fitresult (from memory, as labelled there)."""
+the many-set arrays. Expected values: the many-set arrays of
+the same fit (they must agree) and the uncertainties package's own propagation."""
 
 import numpy as np
 import pytest
 import uncertainties
 
 from vpkit.fit import fit_points
-from vpkit.fitresult import trouton_verdict
 
 T = np.linspace(298.15, 343.15, 8)
 y = 20 - 4000 / T + np.array([0, 1, -1, 0, 2, -1, 0, 1]) * 1e-3
@@ -23,8 +21,6 @@ def test_uncertain_numbers_equal_the_stack_arrays():
     b = r.boiling_point(101325.0)
     assert b.nominal_value == pytest.approx(Tb[0], rel=1e-14)
     assert b.std_dev == pytest.approx(uTb[0], rel=1e-12)
-    s, us, _ = r.stack.entropy_at_boiling()
-    assert r.entropy_at_boiling().std_dev == pytest.approx(us[0], rel=1e-10)
 
 
 def test_enthalpy_correlates_with_the_parameters():
@@ -40,9 +36,3 @@ def test_an_uncertain_pressure_adds_to_the_boiling_point():
     plain = r.boiling_point(101325.0)
     with_p = r.boiling_point(uncertainties.ufloat(101325.0, 500.0))
     assert with_p.std_dev > plain.std_dev
-
-
-@pytest.mark.parametrize("v,u,word", [(86.0, 1.0, "within"), (110.0, 2.0, "hydrogen-bonded"),
-                                      (70.0, 1.0, "outside")])
-def test_trouton_bands(v, u, word):
-    assert word in trouton_verdict(v, u)

@@ -22,7 +22,7 @@ from ..analysis import Analysis, analyze
 from ..constants import T_ZERO_C
 from ..errors import VpkitError
 from ..plots import COLUMN_WIDTHS
-from ..report import SAFETY_NOTE, write_outputs
+from ..report import SAFETY_NOTE, bias_text, write_outputs
 from ..run import Run
 from ..runfile import read_run
 from ..session import (
@@ -233,6 +233,9 @@ class RunPanel:
                "u_T_b_normal": float(row["u(T_b at 101.325 kPa) [K]"]),
                "entropy": float(row["ΔS_vap at T_b [J/(mol K)]"]),
                "u_entropy": float(row["u(ΔS_vap) [J/(mol K)]"]), "trouton": row["Trouton"],
+               "true_enthalpy": float(row["true ΔvapH at T_m [kJ/mol]"]) * 1e3,
+               "u_true_enthalpy": float(row["u(true ΔvapH) [kJ/mol]"]) * 1e3,
+               "extrapolation": bias_text(row),
                "shift": (None if self.previous_enthalpy is None
                          else float(row["ΔH_vap [kJ/mol]"]) * 1e3 - self.previous_enthalpy)}
         if np.isfinite(row["measured T_b [degC]"]):
@@ -425,10 +428,14 @@ class RunPanel:
                  f"</b> at T_m = {self._t(r['T_m'])}"]
         if r["shift"] is not None:
             lines[0] += f" &nbsp; (shift from previous: {D.signed(r['shift'] / 1e3, 'kJ/mol', 2)})"
+        if np.isfinite(r["true_enthalpy"]):
+            lines[0] += (" &nbsp; true ΔvapH = " + D.value_u(r["true_enthalpy"] / 1e3,
+                                                           r["u_true_enthalpy"] / 1e3, "kJ/mol"))
         lines.append(html.escape(r["trouton"]))
         lines.append(f"boiling point at the run's pressure ({self._p(a.si.P_bar)}): "
                      f"{self._t(r['T_b_run'], r['u_T_b_run'])}; at 101.325 kPa: "
                      f"{self._t(r['T_b_normal'], r['u_T_b_normal'])}")
+        lines.append(html.escape(r["extrapolation"]))
         if "T_b_measured" in r:
             dT = D.quantity(r["T_b_gap"], None, self.choices["temperature_unit"], "temperature",
                             delta=True)
