@@ -91,7 +91,8 @@ def entropy_at_boiling(fit, liquids, curves, P=P_STANDARD, bias=None) -> dict:
     Returns
     -------
     dict with ``value``, ``u`` [J/(mol K)], ``T_b`` [K] (corrected where ``bias`` is
-    given), ``enthalpy`` (true ΔvapH at T_b [J/mol]) and ``carried_by`` (R,) of "model", "published curve", "assumed ΔCp".
+    given), ``enthalpy`` (true ΔvapH at T_b [J/mol]) and ``carried_by`` (R,) of
+    "model", "published curve" or "assumed ΔCp".
     """
     m, th, cov = fit.model, fit.params, fit.cov
     Tb, _, gT, _ = fit.boiling_point(P)

@@ -240,16 +240,20 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
     dH, u_dH, _ = fit.enthalpy()
     Tb_run, u_run, _, _ = fit.boiling_point(stack.scalar["P_bar"])
     Tb_n, u_n, _, _ = fit.boiling_point(P_STANDARD)
-    liquids = [refmod.canonical_name(x) if refmod.has_reference(x) else x
-               for x in stack.liquid]
+    names = {x: refmod.canonical_name(x) if refmod.has_reference(x) else x
+             for x in set(stack.liquid)}
+    liquids = [names[x] for x in stack.liquid]
     p_m = np.exp(fit.model.f(fit.T_m, fit.params))
     true = derived.true_enthalpy(liquids, fit.T_m, p_m, dH, u_dH)
     own = res.own_curve
     on_curve = None
     if own.has.any():  # the same fit on the published curves: the model's own error
         y_ref = np.where(own.has[:, None], own.ln_p(np.where(stack.mask, stack.T, 300.0)), 0.0)
+        start = None if fit.model.linear else np.where(np.isfinite(fit.params), fit.params,
+                                                       np.nan)
         on_curve = fit_stack(choices.model, T, y_ref, fit_inc, weighting=choices.weighting,
-                             cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T)
+                             cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T, chol=fit.chol,
+                             start=start, search=start is None, influence=False)
     bias_n = derived.boiling_point_bias(fit, own, P_STANDARD, on_curve)
     bias_r = derived.boiling_point_bias(fit, own, stack.scalar["P_bar"], on_curve)
     ent = derived.entropy_at_boiling(fit, liquids, own, P_STANDARD, bias_n["bias"])

@@ -1,12 +1,12 @@
 """ΔH_vap is stated at the temperature its slope belongs to.
 
-Source: the published curves the runs are simulated from (reference="auto": Poling, Prausnitz &
-O'Connell 2001, App. A; VDI Heat Atlas PPDS for 2-propanol and 1-butanol; IAPWS-95 for water), whose apparent
-enthalpy R T^2 d ln p/dT is the exact answer at each temperature. Criterion (issue
-"scientific truth"): on noise-free runs the stated ΔH_vap and the curve's apparent
-ΔH_vap at the stated T_m agree within 0.05 kJ/mol, for every weighting. Measured when
-written: at most 0.020 kJ/mol (1-butanol, ordinary); with T_m = 1/mean(1/T) it was up to
-1.0 kJ/mol for the GLS fit.
+Source: the published curves the runs are simulated from (reference="auto": Poling,
+Prausnitz & O'Connell 2001, App. A; VDI Heat Atlas PPDS for 2-propanol and 1-butanol;
+IAPWS-95 for water), whose apparent enthalpy R T^2 d ln p/dT is the exact answer at each
+temperature. Criterion (issue "scientific truth"): on noise-free runs the stated ΔH_vap
+and the curve's apparent ΔH_vap at the stated T_m agree within 0.05 kJ/mol, for every
+weighting. Measured when written: at most 0.020 kJ/mol (1-butanol, ordinary); with T_m =
+1/mean(1/T) it was up to 1.0 kJ/mol for the GLS fit.
 """
 
 import numpy as np

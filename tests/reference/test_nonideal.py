@@ -1,10 +1,11 @@
-"""The virial and liquid-volume correction from apparent to true ΔvapH, against
-published sources:
+"""The virial and liquid-volume correction from apparent to true ΔvapH, against published
+sources:
 
 - the chemicals package: its default critical constants, acentric factors and dipole
-  moments (sources named per row in vpkit/data/virial_tsonopoulos.csv), its implementation of the Tsonopoulos
-  correlation (BVirial_Tsonopoulos_extended: Tsonopoulos 1974, Tsonopoulos & Heidman
-  1990) and of VDI Heat Atlas PPDS equation 12 (phase_change.PPDS12);
+  moments (sources named per row in vpkit/data/virial_tsonopoulos.csv), its
+  implementation of the Tsonopoulos correlation (BVirial_Tsonopoulos_extended:
+  Tsonopoulos 1974, Tsonopoulos & Heidman 1990) and of VDI Heat Atlas PPDS equation 12
+  (phase_change.PPDS12);
 - CoolProp's reference equations of state (Bell et al., Ind. Eng. Chem. Res. 53, 2498
   (2014), and the papers it cites per fluid): second virial coefficients and h'' - h';
 - IAPWS-95 through the iapws package for water (Wagner & Pruss 2002).
