@@ -109,6 +109,14 @@ def _method_checks(res, add) -> None:
         f"at {_t(T[r, i_fr[r]])} p_vap is {100 * top[r]:.0f} % of the pressure on the gas and "
         f"the bubble has grown {growth[r]:.1f} times: close to boiling, the volume runs away "
         "(check that it stayed in the tube)"))
+    cap = res.stack.scalar["capacity"]
+    over = res.stack.mask & (res.V > cap[:, None])
+    i_over = np.argmax(np.where(over, res.V, -np.inf), axis=1)
+    add(over.any(axis=1), "beyond tube capacity", ImpossiblePointWarning, lambda r: (
+        f"{int(over[r].sum())} point(s) exceed the tube's capacity of {cap[r] * 1e6:.4g} mL, "
+        f"the largest at {_t(T[r, i_over[r]])} with {res.V[r, i_over[r]] * 1e6:.4g} mL: gas "
+        "escaped from the open end there, so those volumes are not the trapped gas's "
+        "(exclude them, or use a larger tube or less air)"))
 
 
 def _plausibility_checks(res, add) -> None:

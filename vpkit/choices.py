@@ -191,7 +191,10 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                            offset_from_weighing=readonly(~np.isnan(stack.scalar["mass_before"])),
                            cold_index=readonly(cold.astype(int)),
                            use_head=readonly(np.full(R, bool(choices.use_head))
-                                             & ~np.isnan(depth)))
+                                             & ~np.isnan(depth)),
+                           room_head=readonly(np.full(R, bool(choices.use_head))),
+                           moisture_dissolves=readonly(np.array(
+                               [_takes_up_water(x) for x in stack.liquid], bool)))
     return Resolved(readonly(density), readonly(depth),
                     refmod.CurveSet.from_codes(curves, own_code),
                     refmod.CurveSet.from_codes(curves, compare_code), readonly(mode), setup,
@@ -309,4 +312,17 @@ def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:
     pick = lambda v: readonly(np.asarray(v)[idx]) if np.ndim(v) else v  # noqa: E731
     return ReductionSetup(setup.air_from, setup.gas_mass, pick(setup.direction),
                           pick(setup.offset_from_weighing), pick(setup.cold_index),
-                          pick(setup.use_head))
+                          pick(setup.use_head), pick(setup.room_head),
+                          pick(setup.moisture_dissolves))
+
+
+#: Liquids that take up the water vapor of injected air (water itself, and liquids
+#: miscible with water or dissolving much of it); in the others (alkanes, cyclohexane,
+#: toluene, ethyl acetate, unknown liquids) the moisture stays in the gas and counts
+#: with the air. Common practice, no source.
+TAKES_UP_WATER = frozenset({"water", "methanol", "ethanol", "1-propanol", "2-propanol",
+                            "1-butanol", "acetone"})
+
+
+def _takes_up_water(liquid: str) -> bool:
+    return refmod.has_reference(liquid) and refmod.canonical_name(liquid) in TAKES_UP_WATER

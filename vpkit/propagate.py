@@ -3,7 +3,8 @@
 Every uncertain input of R runs is a column of an (R, m) input matrix
 (:class:`InputLayout`): the N bath temperatures, the N readings, the N own
 pressures, then the per-run inputs (barometer, room temperature, room
-reading, masses, scale offset, density, injected volume, depth). Inputs a run
+reading, masses, scale offset, density, injected volume, depths, tube bore,
+humidity of the injected air). Inputs a run
 does not use have zero uncertainty. :func:`jacobian` differentiates ln p_vap
 of every point with respect to every input by central differences of the one
 reduction (:func:`vpkit.reduce.reduce_chain`), evaluated once on a batch of
@@ -37,10 +38,8 @@ from .stack import RunStack
 
 POINT_INPUTS = ("T", "reading", "P")
 SCALAR_INPUTS = ("P_bar", "T_room", "room_reading", "mass_before", "mass_after",
-                 "scale_offset", "density", "V_injected", "depth")
-_STACK_SCALAR = {"P_bar": "P_bar", "T_room": "T_room", "room_reading": "room_reading",
-                 "mass_before": "mass_before", "mass_after": "mass_after",
-                 "scale_offset": "scale_offset", "V_injected": "V_injected", "depth": "depth"}
+                 "scale_offset", "density", "V_injected", "depth", "room_depth", "bore", "RH")
+_STACK_SCALAR = {k: k for k in SCALAR_INPUTS if k != "density"}
 
 
 @dataclass(frozen=True)
@@ -97,6 +96,11 @@ def build_inputs(stack: RunStack, setup: ReductionSetup, density: np.ndarray,
         "mass_after": weighing, "scale_offset": ~weighing, "density": np.ones(R, bool),
         "V_injected": np.full(R, setup.air_from == "injected"),
         "depth": use_head & ~np.isnan(depth),
+        "room_depth": np.full(R, setup.air_from == "weighed")
+        & np.broadcast_to(np.asarray(setup.room_head, bool), (R,)) & ~np.isnan(s["room_depth"]),
+        "bore": use_head & ~np.isnan(depth) & ~np.isnan(s["bore"]),
+        "RH": np.full(R, setup.air_from == "injected")
+        & np.broadcast_to(np.asarray(setup.moisture_dissolves, bool), (R,)) & ~np.isnan(s["RH"]),
     }
     unc = {k: u[k] for k in _STACK_SCALAR}
     unc["density"] = density * u["density_relative"]

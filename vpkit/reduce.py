@@ -123,6 +123,12 @@ class ReductionSetup:
         Reading used as the cold reference for ``air_from="cold"``.
     use_head : bool or ndarray (R,)
         Add the hydrostatic head rho g h of the bubble depth.
+    room_head : bool or ndarray (R,)
+        Add the head at the room reading (``room_depth``, or with a tube bore the
+        bubble depth) to the pressure of the weighed air amount.
+    moisture_dissolves : bool or ndarray (R,)
+        The water vapor of the injected air leaves the gas (the liquid is water
+        or takes water up), so the air amount counts dry air only.
     """
 
     air_from: str = "weighed"
@@ -131,6 +137,8 @@ class ReductionSetup:
     offset_from_weighing: bool | np.ndarray = True
     cold_index: int | np.ndarray = 0
     use_head: bool | np.ndarray = True
+    room_head: bool | np.ndarray = False
+    moisture_dissolves: bool | np.ndarray = False
 
 
 def _b(value, like):
@@ -151,8 +159,12 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
         pressure [Pa], NaN where the point sees the barometric pressure).
         Per run, shape (...): ``P_bar`` [Pa], ``T_room`` [K], ``room_reading``
         [m^3], ``mass_before``, ``mass_after`` [kg], ``density`` [kg/m^3],
-        ``V_injected``, ``scale_offset`` [m^3], ``depth`` [m]. Entries the
-        setup does not use may be absent or NaN.
+        ``V_injected``, ``scale_offset`` [m^3], ``depth``, ``room_depth``,
+        ``bore`` (inner diameter) [m], ``RH`` (relative humidity of the injected
+        air, a fraction). Entries the setup does not use may be absent or NaN.
+        With a bore, each reading's depth is ``depth + (V - V_room)/(π bore²/4)``
+        (the interface moves down as the bubble grows; ``depth`` is then the
+        depth at the room reading).
     setup : ReductionSetup
     p_ref : array_like, shape (...)
         Vapor pressure at the air-reference temperature [Pa] (ignored for
@@ -181,13 +193,24 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
         P_point = x.get("P")
         P = (np.broadcast_to(P_bar[..., None], np.shape(T)) if P_point is None
              else np.where(np.isnan(P_point), P_bar[..., None], P_point))
-        depth = np.where(_b(setup.use_head, P_bar) & np.isfinite(get("depth")), get("depth"),
-                         0.0)
-        P_total = total_pressure(P, depth[..., None], get("density")[..., None])
+        head = _b(setup.use_head, P_bar) & np.isfinite(get("depth"))
+        depth = np.where(head, get("depth"), 0.0)
+        bore = get("bore")
+        moves = head & np.isfinite(bore)
+        travel = np.where(moves[..., None], (V - V_room[..., None])
+                          / (np.pi * np.where(moves, bore, 1.0)[..., None] ** 2 / 4.0), 0.0)
+        rho = get("density")[..., None]
+        P_total = total_pressure(P, depth[..., None] + travel, rho)
         if setup.air_from == "injected":
-            n_air = air_amount(P_bar, 0.0, get("V_injected"), T_room)
+            dry = np.where(_b(setup.moisture_dissolves, P_bar) & np.isfinite(get("RH")),
+                           get("RH") * _water_vapor_pressure(T_room), 0.0)
+            n_air = air_amount(P_bar, dry, get("V_injected"), T_room)
         elif setup.air_from == "weighed":
-            n_air = air_amount(P_bar, p_ref, V_room, T_room)
+            h_room = np.where(np.isfinite(get("room_depth")), get("room_depth"),
+                              np.where(moves, depth, np.nan))
+            h_room = np.where(_b(setup.room_head, P_bar) & np.isfinite(h_room), h_room, 0.0)
+            P_room = total_pressure(P_bar, h_room, get("density"))
+            n_air = air_amount(P_room, p_ref, V_room, T_room)
         elif setup.air_from == "cold":
             c = np.broadcast_to(_b(setup.cold_index, P_bar), np.shape(P_bar)).astype(int)
             take = lambda a: np.take_along_axis(  # noqa: E731
@@ -199,6 +222,14 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
         p_vap = vapor_pressure(P_total, p_air)
     return {"V": V, "P_total": P_total, "p_air": p_air, "p_vap": p_vap, "n_air": n_air,
             "V_room": V_room}
+
+
+def _water_vapor_pressure(T):
+    """Saturation pressure of water [Pa] (IAPWS-95, :func:`vpkit.reference.iapws95_curve`):
+    the most the injected air's moisture can be, at relative humidity 1."""
+    from .reference import iapws95_curve
+
+    return iapws95_curve().p(T)
 
 
 def air_reference_temperature(x: Mapping[str, np.ndarray], setup: ReductionSetup):

@@ -30,7 +30,17 @@ FIELDS: dict[str, tuple[str, bool, str]] = {
     "injected_air_volume": ("volume", False, "volume of air injected, at room conditions"),
     "scale_offset": ("volume", False, "volume between the closed end and the zero mark, if known"),
     "graduated_from": ("text", False, "'closed end' (default) or 'open end'"),
-    "bubble_depth": ("length", False, "depth of the gas-liquid interface below the bath surface"),
+    "bubble_depth": ("length", False, "depth of the gas-liquid interface below the bath surface "
+                     "(with tube_bore: at the room reading)"),
+    "room_depth": ("length", False, "depth of the interface below the liquid surface at the "
+                   "room reading (the weighing); default: no head there"),
+    "tube_bore": ("length", False, "inner diameter of the tube: the interface then moves down "
+                  "by (V - V_room)/(pi bore^2/4) as the bubble grows"),
+    "injected_air_humidity": ("fraction", False, "relative humidity of the injected air "
+                              "(%, for the injected air amount)"),
+    "reading_resolution": ("volume", False, "smallest graduation step; without "
+                           "reading_uncertainty, u(reading) = resolution/sqrt(12)"),
+    "tube_capacity": ("volume", False, "largest gas volume the tube holds (its full scale)"),
     "boiling_point": ("temperature", False, "measured boiling point at the barometric pressure"),
     "reading_uncertainty": ("volume", False, "standard uncertainty of one graduation reading"),
     "temperature_uncertainty": ("temperature", False, "standard uncertainty of one bath reading"),
@@ -54,6 +64,9 @@ DEFAULT_UNCERTAINTY: dict[str, float] = {
     "injected_air_volume": 0.01e-6,  # m^3
     "scale_offset": 0.005e-6,  # m^3
     "bubble_depth": 0.003,  # m
+    "room_depth": 0.003,  # m
+    "tube_bore": 1e-4,  # m (a caliper or the maker's figure)
+    "injected_air_humidity": 0.05,  # fraction (a room hygrometer, 5 % RH)
     "boiling_point": 0.3,  # K
     "liquid_density_relative": 1e-3,  # relative, for 'reference' or a value without uncertainty
 }

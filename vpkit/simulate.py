@@ -15,7 +15,7 @@ from collections.abc import Callable, Mapping
 
 import numpy as np
 
-from .constants import R
+from .constants import G_N, R
 from .reduce import air_amount, gas_density, total_pressure
 from .run import Entry, Run
 from .units import from_si
@@ -30,7 +30,8 @@ NOISE = {"reading": 0.005e-6, "T": 0.2, "P_bar": 100.0, "T_room": 0.3, "mass": 1
 
 
 def forward_readings(p_T, p_room, T, *, P_bar, T_room, V_room, offset, direction=1,
-                     density, depth=None, gas_mass: bool = True, mass_before=0.030) -> dict:
+                     density, depth=None, gas_mass: bool = True, mass_before=0.030,
+                     room_depth=None, bore=None) -> dict:
     """Noise-free readings of runs whose true vapor pressure is known (any batch shape).
 
     The inverse of :func:`vpkit.reduce.reduce_chain`, step by step: the weighed
@@ -48,6 +49,12 @@ def forward_readings(p_T, p_room, T, *, P_bar, T_room, V_room, offset, direction
         Barometric pressure [Pa], room temperature [K], gas volume at the
         weighing [m^3], volume below the zero mark [m^3], +1/-1, liquid density
         [kg/m^3], bubble depth [m] (None: no head), mass before the air [kg].
+    room_depth, bore : array_like (...), optional
+        Depth of the interface at the room reading [m] and the tube's inner
+        diameter [m]: with a bore the interface moves down by (V - V_room)/A as
+        the bubble grows, A = π bore²/4, so each volume solves the quadratic
+        n R T / V = P_bar + ρ g (depth + (V - V_room)/A) - p_vap; ``depth`` is
+        then the depth at the room reading, and the room head defaults to it.
 
     Returns
     -------
@@ -56,11 +63,20 @@ def forward_readings(p_T, p_room, T, *, P_bar, T_room, V_room, offset, direction
         ``V_injected`` [m^3] (...).
     """
     P_bar, T_room = np.asarray(P_bar, float), np.asarray(T_room, float)
-    n_air = air_amount(P_bar, p_room, V_room, T_room)
+    h_room = room_depth if room_depth is not None else (depth if bore is not None else None)
+    P_room = total_pressure(P_bar, 0.0 if h_room is None else np.asarray(h_room, float),
+                            np.asarray(density, float))
+    n_air = air_amount(P_room, p_room, V_room, T_room)
     rho_gas = gas_density(P_bar, T_room) if gas_mass else 0.0
     col = lambda v: np.asarray(v, float)[..., None]  # noqa: E731
     P_tot = total_pressure(col(P_bar), 0.0 if depth is None else col(depth), col(density))
-    V = n_air[..., None] * R * np.asarray(T, float) / (P_tot - np.asarray(p_T, float))
+    nRT = n_air[..., None] * R * np.asarray(T, float)
+    if bore is None:
+        V = nRT / (P_tot - np.asarray(p_T, float))
+    else:  # a V^2 + b V - n R T = 0, positive root
+        a = col(density) * G_N / (np.pi * col(bore) ** 2 / 4.0)
+        b = P_tot - a * col(V_room) - np.asarray(p_T, float)
+        V = 2.0 * nRT / (b + np.sqrt(b * b + 4.0 * a * nRT))
     return {"reading": (V - col(offset)) / col(direction),
             "mass_after": mass_before - V_room * (density - rho_gas),
             "room_reading": (V_room - offset) / direction,
@@ -82,6 +98,8 @@ def simulate_run(
     gas_mass: bool = True,
     mass_before: float = 0.030,
     boiling_point: float | None = None,
+    room_depth: float | None = None,
+    bore: float | None = None,
     units: Mapping[str, str] = BENCH_UNITS,
     noise: Mapping[str, float] | None = None,
     rng: np.random.Generator | None = None,
@@ -100,6 +118,8 @@ def simulate_run(
         True barometric pressure [Pa], room temperature [K], gas volume at the
         weighing [m^3], volume below the zero mark [m^3], liquid density
         [kg/m^3], bubble depth [m], mass before the air [kg].
+    room_depth, bore : float, optional
+        Depth at the room reading and tube bore [m] (see :func:`forward_readings`).
     direction : int
         +1 graduated from the closed end, -1 from the open end (the scale is
         then read downwards from ``offset``).
@@ -121,7 +141,7 @@ def simulate_run(
     true = forward_readings(p_true(T), float(p_true(np.array([T_room]))[0]), T, P_bar=P_bar,
                             T_room=T_room, V_room=V_room, offset=offset, direction=direction,
                             density=density, depth=depth, gas_mass=gas_mass,
-                            mass_before=mass_before)
+                            mass_before=mass_before, room_depth=room_depth, bore=bore)
     mass_after, room_reading = true["mass_after"], true["room_reading"]
     reading, V_inj = true["reading"], true["V_injected"]
     def noisy(value, key):
@@ -161,6 +181,9 @@ def simulate_run(
     if depth is not None:
         entries.append(("bubble_depth", Entry(val(noisy(depth, "depth"), u["L"], "length"),
                                               u["L"], unc("depth", u["L"], "length"))))
+    for name, value in (("room_depth", room_depth), ("tube_bore", bore)):
+        if value is not None:
+            entries.append((name, Entry(val(value, u["L"], "length"), u["L"])))
     if boiling_point is not None:
         entries.append(("boiling_point", Entry(val(boiling_point, u["T"], "temperature"),
                                                u["T"])))

@@ -35,7 +35,8 @@ from .validate import QUANTITY, check, uncertainties
 
 SCALARS = tuple(QUANTITY)
 U_KEYS = ("T", "reading", "pressure", "P_bar", "T_room", "room_reading", "mass_before",
-          "mass_after", "V_injected", "scale_offset", "depth", "T_boil", "density_relative")
+          "mass_after", "V_injected", "scale_offset", "depth", "T_boil", "room_depth", "bore",
+          "RH", "density_relative")
 
 
 @dataclass(frozen=True)
@@ -66,6 +67,11 @@ class RunSI:
     depth: float | None
     T_boil: float | None
     u: Mapping[str, float]
+    room_depth: float | None = None
+    bore: float | None = None
+    RH: float | None = None
+    resolution: float | None = None
+    capacity: float | None = None
 
 
 @dataclass(frozen=True)
@@ -149,7 +155,9 @@ class RunStack:
             density=opt["density"], density_from_reference=opt["density"] is None,
             V_injected=opt["V_injected"], scale_offset=opt["scale_offset"],
             direction=int(self.direction[r]), depth=opt["depth"], T_boil=opt["T_boil"],
-            u={k: float(v[r]) for k, v in self.u.items()})
+            u={k: float(v[r]) for k, v in self.u.items()}, room_depth=opt["room_depth"],
+            bore=opt["bore"], RH=opt["RH"], resolution=opt["resolution"],
+            capacity=opt["capacity"])
 
     def place(self, r: int, name: str, point: int | None = None) -> dict:
         """``file``, ``row`` and ``column`` of a quantity (or of point ``point``)."""

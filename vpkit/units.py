@@ -27,6 +27,7 @@ SI_UNITS: dict[str, str] = {
     "mass": "kg",
     "density": "kg/m**3",
     "length": "m",
+    "fraction": "dimensionless",
 }
 
 _DIMENSIONS = {
@@ -36,6 +37,7 @@ _DIMENSIONS = {
     "mass": "[mass]",
     "density": "[mass] / [length] ** 3",
     "length": "[length]",
+    "fraction": "",
 }
 
 _EXAMPLES = {
@@ -45,6 +47,7 @@ _EXAMPLES = {
     "mass": "g, mg, kg",
     "density": "g/mL, g/cm3, kg/m3",
     "length": "cm, mm, m",
+    "fraction": "%, or no unit for a fraction (0.45)",
 }
 
 # Spellings people type that pint does not know as such.
@@ -60,6 +63,7 @@ _ALIASES = {
     "mbar": "mbar", "pa": "Pa", "bar": "bar", "atm": "atm", "psi": "psi",
     "g/ml": "g/mL", "g/cm3": "g/cm**3", "kg/m3": "kg/m**3", "kg/l": "kg/L",
     "g/l": "g/L",
+    "%": "percent", "%rh": "percent", "rh": "percent", "percent": "percent",
 }
 
 
@@ -80,6 +84,8 @@ def _factor(unit: str, kind: str, delta: bool) -> tuple[float, float]:
     if kind not in _DIMENSIONS:
         raise KeyError(kind)
     name = normalize_unit(unit)
+    if not name and kind == "fraction":
+        return 1.0, 0.0  # a plain number is a fraction
     if not name:
         raise UnitError(
             f"no unit given for a {kind}",

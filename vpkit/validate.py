@@ -32,7 +32,9 @@ QUANTITY: dict[str, str] = {
     "room_reading": "room_reading", "mass_before": "mass_before_air",
     "mass_after": "mass_after_air", "density": "liquid_density",
     "V_injected": "injected_air_volume", "scale_offset": "scale_offset",
-    "depth": "bubble_depth", "T_boil": "boiling_point",
+    "depth": "bubble_depth", "T_boil": "boiling_point", "room_depth": "room_depth",
+    "bore": "tube_bore", "RH": "injected_air_humidity", "resolution": "reading_resolution",
+    "capacity": "tube_capacity",
 }
 
 #: Hard limits of what an entry can be, in SI (common practice, no source): beyond them
@@ -45,12 +47,17 @@ LIMITS = {
     "room_reading": (-1e-3, 1e-3, "more than 1 L"), "V_injected": (0.0, 1e-3, "more than 1 L"),
     "scale_offset": (-1e-3, 1e-3, "more than 1 L"),
     "density": (100.0, 3e4, "outside 100 to 30,000 kg/m^3"),
-    "depth": (0.0, 10.0, "more than 10 m"),
+    "depth": (0.0, 10.0, "more than 10 m"), "room_depth": (0.0, 10.0, "more than 10 m"),
+    "bore": (1e-4, 0.1, "outside 0.1 mm to 10 cm"),
+    "RH": (0.0, 1.0, "outside 0 to 100 %"),
+    "resolution": (1e-12, 1e-5, "outside 1 nL to 10 mL"),
+    "capacity": (1e-8, 1e-3, "outside 0.01 mL to 1 L"),
 }
 
 SI_UNIT = {"P_bar": "Pa", "T_room": "K", "T_boil": "K", "mass_before": "kg", "mass_after": "kg",
            "room_reading": "m^3", "V_injected": "m^3", "scale_offset": "m^3",
-           "density": "kg/m^3", "depth": "m"}
+           "density": "kg/m^3", "depth": "m", "room_depth": "m", "bore": "m", "RH": "",
+           "resolution": "m^3", "capacity": "m^3"}
 
 #: Uncertainty keys and the default (SI) that fills each gap.
 DEFAULTS = {
@@ -64,6 +71,9 @@ DEFAULTS = {
     "scale_offset": DEFAULT_UNCERTAINTY["scale_offset"],
     "depth": DEFAULT_UNCERTAINTY["bubble_depth"],
     "T_boil": DEFAULT_UNCERTAINTY["boiling_point"],
+    "room_depth": DEFAULT_UNCERTAINTY["room_depth"],
+    "bore": DEFAULT_UNCERTAINTY["tube_bore"],
+    "RH": DEFAULT_UNCERTAINTY["injected_air_humidity"],
 }
 
 
@@ -72,10 +82,16 @@ def uncertainties(c: Columns) -> dict[str, np.ndarray]:
 
     Per-point pressures default to the barometer's stated uncertainty (they are
     read on it), the room reading to the graduation reading's, and a density
-    given without an uncertainty (or taken from the reference) to 0.1 %.
+    given without an uncertainty (or taken from the reference) to 0.1 %. A
+    graduation reading without a stated uncertainty but with a stated
+    ``reading_resolution`` gets resolution/√12 (a rectangular distribution over
+    one graduation step, GUM 4.3.7).
     """
     g = c.given_u
     u = {k: np.where(np.isnan(g[k]), d, g[k]) for k, d in DEFAULTS.items()}
+    res = c.scalar["resolution"]
+    u["reading"] = np.where(np.isnan(g["reading"]) & np.isfinite(res), res / np.sqrt(12.0),
+                            u["reading"])
     u["pressure"] = np.where(np.isnan(g["pressure"]),
                              np.where(np.isnan(g["P_bar"]), DEFAULT_UNCERTAINTY["pressure"],
                                       g["P_bar"]), g["pressure"])
@@ -197,6 +213,9 @@ def _run_checks(ch: _Checker, s: RunStack) -> None:
     fail(s.direction == 0, lambda r: BadValueError(
         "graduated_from: not 'closed end' or 'open end'", **s.place(r, "graduated_from"),
         hint="write 'closed end' when the zero mark is near the closed end"))
+    fail(np.isfinite(sc["bore"]) & np.isnan(sc["room_reading"]), lambda r: RunFileError(
+        "tube_bore needs the room reading: the depths follow from the volume moved since then",
+        **s.place(r, "tube_bore"), hint="add room_reading, or remove tube_bore"))
     no_scale = np.isnan(sc["scale_offset"]) & (np.isnan(sc["room_reading"])
                                                | np.isnan(sc["mass_before"]))
     fail(no_scale, lambda r: RunFileError(

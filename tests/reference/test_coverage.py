@@ -50,3 +50,47 @@ def test_monte_carlo_agrees_with_linear_propagation():
     assert mc.failed == 0
     assert abs(mc.std / a.enthalpy.std_dev - 1) < 0.05
     assert abs(mc.mean - a.enthalpy.nominal_value) < 0.1 * a.enthalpy.std_dev
+
+
+@pytest.mark.parametrize("liquid,t_c", [("water", (35, 40, 45, 50, 55, 60, 65, 70)),
+                                       ("ethanol", (25, 30, 35, 40, 45, 50, 55, 60))])
+def test_coverage_with_coarse_graduations_declared(liquid, t_c):
+    """Readings rounded to 0.05 mL graduations with `reading_resolution` declared and no
+    reading uncertainty: u(reading) = 0.05/sqrt(12) mL (GUM 4.3.7). Bubble size and scale
+    offset vary from run to run, so the rounding errors are independent. Truth: the curve's
+    apparent ΔH_vap at each run's T_m (within 0.05 kJ/mol of the noise-free fit, see
+    test_apparent_enthalpy.py; the intervals here are about 40 times wider).
+
+    Measured when written (seed 7; GLS, weighted, ordinary): water 35-70 degC 94.5, 95.6,
+    95.3 %; ethanol 25-60 degC 94.9, 95.0, 94.5 %. Not asserted, and said so: water from
+    25 degC with these graduations covers only 89 % by GLS (mean error -0.57 u), because
+    p_vap at 25 degC is 3 % of the gas pressure and a 0.025 mL rounding moves it by tens
+    of percent, beyond linear propagation; 98 % of those runs carry the "amplified error"
+    warning that says so.
+    """
+    import dataclasses
+
+    from vpkit.reference import reference_curve
+    from vpkit.run import Entry
+
+    rng = np.random.default_rng(7)
+    curve = reference_curve(liquid)
+    step = 0.05
+    noise = {k: v for k, v in NOISE.items() if k != "reading"}
+    runs = {}
+    for k in range(N_RUNS):
+        run = make_run(liquid, t_c, noise=noise, rng=rng, V_room=rng.uniform(1.8e-6, 2.6e-6),
+                       offset=rng.uniform(0.1e-6, 0.2e-6))
+        q = lambda v: round(v / step) * step  # noqa: E731
+        entries = tuple((name, Entry(q(e.value), e.unit) if name == "room_reading" else e)
+                        for name, e in run.entries if name != "reading_uncertainty")
+        runs[f"r{k}"] = dataclasses.replace(
+            run, entries=entries + (("reading_resolution", Entry(step, "mL")),),
+            reading=tuple(q(r) for r in run.reading))
+    for weighting in ("gls", "weighted", "ordinary"):
+        s = analyze_runs(runs, weighting=weighting)
+        assert (s["status"] == "").all()
+        truth = curve.apparent_enthalpy(s["T_m [K]"].to_numpy()) / 1e3
+        hit = np.abs(s["ΔH_vap [kJ/mol]"] - truth) <= 1.959964 * s["u(ΔH_vap) [kJ/mol]"]
+        print(f"{liquid} {weighting} resolution {step} mL: coverage {hit.mean():.3f}")
+        assert 0.93 <= hit.mean() <= 0.97, (weighting, hit.mean())

@@ -130,3 +130,64 @@ def test_requested_and_automatic_exclusions_are_kept_apart():
     assert not a.include[0] and "cold reference" in a.reasons[0]
     assert not a.include[3] and a.reasons[3] == "stirrer stopped"
     assert a.result.requested_include[0, 0] and not a.result.requested_include[0, 3]
+
+
+def _entries(run, drop=(), **new):
+    kept = tuple((k, e) for k, e in run.entries if k not in drop and k not in new)
+    return dataclasses.replace(run, entries=kept + tuple(new.items()))
+
+
+def test_room_head_and_tube_bore_recover_the_curve_and_are_propagated():
+    """Water runs simulated with a 5 cm head at the room reading and a 5 mm bore
+    reduce back to IAPWS-95 exactly; ignoring the quantities biases ΔH_vap (METHOD 2.2);
+    their uncertainties widen u(ΔH_vap)."""
+    curve = vpkit.reference_curve("water")
+    run = make_run("water", depth=0.05, bore=0.005)
+    a = vpkit.analyze(run, warn=False)
+    np.testing.assert_allclose(a.p_vap, curve.p(a.T), rtol=1e-12)
+    lost = vpkit.analyze(_entries(run, drop=("tube_bore",)), warn=False)
+    shift = (lost.enthalpy.nominal_value - a.enthalpy.nominal_value) / 1e3
+    assert -2.5 < shift < -1.5  # the head at the room reading dominates (about -1.8 kJ/mol)
+    cols = a.inputs.names
+    assert a.inputs.sigma[cols.index("bore")] > 0
+    assert a.inputs.sigma[cols.index("room_depth")] == 0  # taken from bubble_depth
+    wide = vpkit.analyze(_entries(run, tube_bore=vpkit.Entry(5.0, "mm", 1.0)), warn=False)
+    assert wide.enthalpy.std_dev > a.enthalpy.std_dev
+
+
+def test_humidity_of_injected_air_for_water_and_for_hexane():
+    """Injected air at 60 % RH: its moisture joins the water vapor (dry air counted);
+    over hexane it stays in the gas and counts as air (no change)."""
+    iapws = pytest.importorskip("iapws")
+    run = make_run("water")
+    e = dict(run.entries)
+    T_room = 294.15
+    p_w = iapws.IAPWS95(T=T_room, x=0).P * 1e6
+    V_dry = e["injected_air_volume"].value  # mL of dry air at P_bar (simulated)
+    P_bar = e["barometric_pressure"].value * 1e3
+    V_wet = V_dry * P_bar / (P_bar - 0.6 * p_w)  # the same dry air, injected at 60 % RH
+    wet = _entries(run, injected_air_volume=vpkit.Entry(V_wet, "mL"),
+                   injected_air_humidity=vpkit.Entry(60.0, "%"))
+    a = vpkit.analyze(wet, air_from="injected", warn=False)
+    dry = vpkit.analyze(run, air_from="injected", warn=False)
+    assert a.n_air == pytest.approx(dry.n_air, rel=1e-12)
+    np.testing.assert_allclose(a.p_vap, dry.p_vap, rtol=1e-12)
+    assert a.enthalpy.std_dev > dry.enthalpy.std_dev  # u(RH) = 5 % RH is propagated
+    ignored = vpkit.analyze(_entries(wet, drop=("injected_air_humidity",)), air_from="injected",
+                            warn=False)
+    assert (ignored.enthalpy.nominal_value - a.enthalpy.nominal_value) / 1e3 > 1.0
+    hexane = make_run("hexane", t_c=(20, 25, 30, 35, 40, 45, 50))
+    h0 = vpkit.analyze(hexane, air_from="injected", warn=False)
+    h1 = vpkit.analyze(_entries(hexane, injected_air_humidity=vpkit.Entry(60.0, "%")),
+                       air_from="injected", warn=False)
+    assert h1.enthalpy.nominal_value == h0.enthalpy.nominal_value
+
+
+def test_a_bubble_beyond_the_tube_capacity_is_named():
+    run = make_run("ethanol")
+    a = vpkit.analyze(_entries(run, tube_capacity=vpkit.Entry(2.5, "mL")), warn=False)
+    hit = [w for w in a.warnings if "capacity" in w]
+    assert hit and "2.5 mL" in hit[0] and "60.00 degC" in hit[0]
+    assert "beyond tube capacity" in a.results()["flags"][0]
+    roomy = vpkit.analyze(_entries(run, tube_capacity=vpkit.Entry(10.0, "mL")), warn=False)
+    assert not [w for w in roomy.warnings if "capacity" in w]

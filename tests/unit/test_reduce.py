@@ -69,3 +69,49 @@ def test_flags_never_drop_points():
     assert any("smaller than at a lower" in f for f in flags[1])
     assert any(">= total pressure" in f for f in flags[2])
     assert any("boiling point" in f for f in flags[2])
+
+
+def _x(**extra):
+    x = {"T": np.array([[300.0, 320.0]]), "reading": np.array([[2.0e-6, 2.6e-6]]),
+         "P": np.full((1, 2), np.nan), "P_bar": np.array([100000.0]),
+         "T_room": np.array([295.0]), "room_reading": np.array([1.9e-6]),
+         "mass_before": np.array([0.030]), "mass_after": np.array([0.0284]),
+         "density": np.array([800.0]), "V_injected": np.array([2.1e-6])}
+    x.update({k: np.array([v]) for k, v in extra.items()})
+    return x
+
+
+def test_head_at_the_room_reading_raises_the_weighed_air_amount():
+    """n = (P_bar + rho g h_room - p_ref) V_room/(R T_room), g_n = 9.80665 m/s^2."""
+    setup = rd.ReductionSetup(air_from="weighed", gas_mass=False, room_head=True)
+    out = rd.reduce_chain(_x(room_depth=0.05), setup, np.array([2000.0]))
+    n = (100000.0 + 800.0 * 9.80665 * 0.05 - 2000.0) * 2.0e-6 / (R * 295.0)
+    assert out["n_air"][0] == pytest.approx(n, rel=1e-13)
+    off = rd.reduce_chain(_x(room_depth=0.05), rd.ReductionSetup(gas_mass=False, room_head=False),
+                          np.array([2000.0]))
+    assert off["n_air"][0] == pytest.approx((100000.0 - 2000.0) * 2e-6 / (R * 295.0))
+
+
+def test_tube_bore_moves_the_interface_down_as_the_bubble_grows():
+    """depth_i = h + (V_i - V_room)/(pi d^2/4); the room head is then h itself."""
+    setup = rd.ReductionSetup(air_from="weighed", gas_mass=False, use_head=True, room_head=True)
+    d, h = 0.005, 0.04
+    out = rd.reduce_chain(_x(depth=h, bore=d), setup, np.array([2000.0]))
+    V = 2.0e-6 - 1.9e-6 + np.array([2.0e-6, 2.6e-6])
+    depth = h + (V - 2.0e-6) / (np.pi * d**2 / 4)
+    np.testing.assert_allclose(out["P_total"][0], 100000.0 + 800.0 * 9.80665 * depth, rtol=1e-14)
+    n = (100000.0 + 800.0 * 9.80665 * h - 2000.0) * 2.0e-6 / (R * 295.0)
+    assert out["n_air"][0] == pytest.approx(n, rel=1e-13)
+
+
+def test_moisture_of_injected_air_leaves_a_liquid_that_takes_up_water():
+    """Dry air only: n = (P_bar - RH p_w(T_room)) V_inj/(R T_room), p_w from IAPWS-95 (the
+    iapws package); in a liquid that does not take up water the moisture counts as air."""
+    iapws = pytest.importorskip("iapws")
+    p_w = iapws.IAPWS95(T=295.0, x=0).P * 1e6
+    wet = rd.reduce_chain(_x(RH=0.6), rd.ReductionSetup(air_from="injected",
+                                                        moisture_dissolves=True), 0.0)
+    assert wet["n_air"][0] == pytest.approx((100000.0 - 0.6 * p_w) * 2.1e-6 / (R * 295.0),
+                                            rel=1e-9)
+    kept = rd.reduce_chain(_x(RH=0.6), rd.ReductionSetup(air_from="injected"), 0.0)
+    assert kept["n_air"][0] == pytest.approx(100000.0 * 2.1e-6 / (R * 295.0), rel=1e-13)

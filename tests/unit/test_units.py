@@ -16,7 +16,8 @@ from vpkit.units import from_si, to_si
     (1013.25, "mbar", "pressure", 101325.0), (1.01325, "bar", "pressure", 101325.0),
     (2.5, "mL", "volume", 2.5e-6), (250.0, "µL", "volume", 2.5e-7), (1.0, "cm3", "volume", 1e-6),
     (12.5, "g", "mass", 0.0125), (3.0, "mg", "mass", 3e-6), (0.789, "g/mL", "density", 789.0),
-    (5.0, "cm", "length", 0.05),
+    (5.0, "cm", "length", 0.05), (45.0, "%", "fraction", 0.45), (45.0, "% RH", "fraction", 0.45),
+    (0.45, "", "fraction", 0.45),
 ])
 def test_to_si(value, unit, kind, si):
     assert to_si(value, unit, kind) == pytest.approx(si, rel=1e-6)

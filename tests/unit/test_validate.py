@@ -3,6 +3,7 @@ error, the others pass untouched. The rules are ours (common practice, no source
 the bad-input catalogue (test_bad_input.py) covers each rule's message and place."""
 
 import numpy as np
+import pytest
 
 import vpkit
 from tests.conftest import make_run
@@ -32,3 +33,43 @@ def test_each_run_fails_on_its_own():
     assert "degC values" in found["kelvin"].hint and found["kelvin"].column == "bath_temperature"
     assert all(isinstance(e, vpkit.ImpossibleDataError) for e in found.values())
     np.testing.assert_array_equal(stack.T[0], stack_runs({"good": good}).T[0])
+
+
+def test_reading_resolution_sets_the_reading_uncertainty():
+    """u = resolution/sqrt(12) (rectangular distribution, GUM 4.3.7) where no reading
+    uncertainty is stated; a stated one wins."""
+    import math
+
+    from vpkit.run import Entry
+
+    good = make_run("ethanol")
+    plain = good.__class__(good.entries + (("reading_resolution", Entry(0.05, "mL")),),
+                           good.units, good.bath_temperature, good.reading, good.pressure,
+                           good.include, good.reason)
+    s = stack_runs({"a": plain})
+    assert s.u["reading"][0] == pytest.approx(0.05e-6 / math.sqrt(12), rel=1e-12)
+    assert s.u["room_reading"][0] == s.u["reading"][0]
+    stated = plain.__class__(plain.entries + (("reading_uncertainty", Entry(0.004, "mL")),),
+                             plain.units, plain.bath_temperature, plain.reading, plain.pressure,
+                             plain.include, plain.reason)
+    assert stack_runs({"b": stated}).u["reading"][0] == pytest.approx(0.004e-6)
+
+
+def test_new_quantities_are_checked_with_their_place():
+    from vpkit.run import Entry
+
+    good = make_run("ethanol")
+    wet = good.__class__(good.entries + (("injected_air_humidity", Entry(150.0, "%")),),
+                         good.units, good.bath_temperature, good.reading, good.pressure,
+                         good.include, good.reason)
+    _, failures = stack_runs({"wet": wet}, strict=False)
+    assert failures and failures[0][1].column == "injected_air_humidity"
+    assert "outside 0 to 100 %" in str(failures[0][1])
+    no_room = tuple((k, e) for k, e in good.entries if k != "room_reading")
+    bored = good.__class__(no_room + (("scale_offset", Entry(0.15, "mL")),
+                                      ("tube_bore", Entry(5.0, "mm"))),
+                           good.units, good.bath_temperature, good.reading, good.pressure,
+                           good.include, good.reason)
+    _, failures = stack_runs({"bored": bored}, strict=False)
+    assert failures and failures[0][1].column == "tube_bore"
+    assert "room_reading" in failures[0][1].hint
