@@ -416,11 +416,14 @@ class CurveSet:
         (NaN for runs without a curve or where the steps do not settle)."""
         T = np.array(T_guess, float)
         ln_P = np.broadcast_to(np.asarray(ln_P, float), T.shape)
+        done = ~np.isfinite(T)
         with np.errstate(all="ignore"):
-            for _ in range(50):
+            for _ in range(50):  # a converged entry is left alone (batch-independent)
                 step = (self.ln_p(T) - ln_P) / self._apply("dlnp_dT", T)
-                T = T - np.clip(step, -50.0, 50.0)
-                if not np.any(np.abs(step) > 1e-10 * np.abs(T)):
+                new = np.where(done, T, T - np.clip(step, -50.0, 50.0))
+                done |= (np.abs(new - T) <= 1e-12 * np.abs(T)) | ~np.isfinite(new)
+                T = new
+                if done.all():
                     break
             ok = np.abs(self.ln_p(T) - ln_P) < 1e-9
         return np.where(ok, T, np.nan)

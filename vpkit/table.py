@@ -154,7 +154,7 @@ class _TableReader:
         if kind is None:
             return values
         name, unit = split_header(col)
-        if not unit:
+        if not unit and kind != "fraction":  # a fraction may be a plain number
             raise UnitError(f"column {col!r} has no unit", file=self.source, row=1,
                             column=str(col), hint=f"write it as '{name} [UNIT]'")
         try:
@@ -264,6 +264,16 @@ def stack_to_table(stack: RunStack) -> pd.DataFrame:
         "u(bubble_depth) [m]": rep(u["depth"]), "u(boiling_point) [K]": rep(u["T_boil"]),
         "u_rel(liquid_density)": rep(u["density_relative"]),
     }
+    optional = (("room_depth [m]", "room_depth", "u(room_depth) [m]"),
+                ("tube_bore [m]", "bore", "u(tube_bore) [m]"),
+                ("injected_air_humidity", "RH", "u(injected_air_humidity)"),
+                ("reading_resolution [m**3]", "resolution", None),
+                ("tube_capacity [m**3]", "capacity", None))
+    for col, key, ucol in optional:  # only where some run gives them
+        if np.isfinite(sc[key]).any():
+            data[col] = rep(sc[key])
+            if ucol:
+                data[ucol] = rep(np.where(np.isfinite(sc[key]), u[key], np.nan))
     return pd.DataFrame(data)
 
 
