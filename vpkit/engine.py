@@ -187,8 +187,10 @@ def _analyze_stack(stack, choices, include, reasons) -> StackResult:
         real = stack.mask[rows, c]
         inc[rows[real], c[real]] = False
         why[rows[real], c[real]] = AIR_REFERENCE_REASON
-    res = dataclasses.replace(res, layout=build_inputs(stack, setup, res.density, res.depth))
     mode = res.vapor_mode
+    ref_u = np.where(mode == "reference", res.own_curve.bound("u_rel"), 0.0)
+    res = dataclasses.replace(res, layout=build_inputs(stack, setup, res.density, res.depth,
+                                                       ref_u))
     T_ref0 = (stack.T[rows, np.asarray(setup.cold_index)] if setup.air_from == "cold" and N
               else stack.scalar["T_room"])
     start = np.nan_to_num(res.compare_curve.p(T_ref0))

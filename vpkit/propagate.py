@@ -38,8 +38,9 @@ from .stack import RunStack
 
 POINT_INPUTS = ("T", "reading", "P")
 SCALAR_INPUTS = ("P_bar", "T_room", "room_reading", "mass_before", "mass_after",
-                 "scale_offset", "density", "V_injected", "depth", "room_depth", "bore", "RH")
-_STACK_SCALAR = {k: k for k in SCALAR_INPUTS if k != "density"}
+                 "scale_offset", "density", "V_injected", "depth", "room_depth", "bore", "RH",
+                 "ref_rel")
+_STACK_SCALAR = {k: k for k in SCALAR_INPUTS if k not in ("density", "ref_rel")}
 
 
 @dataclass(frozen=True)
@@ -74,12 +75,14 @@ class InputLayout:
 
 
 def build_inputs(stack: RunStack, setup: ReductionSetup, density: np.ndarray,
-                 depth: np.ndarray) -> InputLayout:
+                 depth: np.ndarray, ref_u_rel=None) -> InputLayout:
     """The input matrix of a stack for a setup: values and standard uncertainties.
 
     ``density`` (R,) is the liquid density used at the room temperature [kg/m^3]
     (the run's own, or the reference value); ``depth`` (R,) the bubble depth
-    used [m] (NaN: none).
+    used [m] (NaN: none); ``ref_u_rel`` (R,) the relative standard uncertainty of
+    a published p_vap at the air reference (0 or NaN where none is taken from a
+    curve): the input ``ref_rel``, nominal 0, scales that p_vap by (1 + ref_rel).
     """
     R, N = stack.T.shape
     mask, u, s = stack.mask, stack.u, stack.scalar
@@ -104,8 +107,10 @@ def build_inputs(stack: RunStack, setup: ReductionSetup, density: np.ndarray,
     }
     unc = {k: u[k] for k in _STACK_SCALAR}
     unc["density"] = density * u["density_relative"]
+    unc["ref_rel"] = np.zeros(R) if ref_u_rel is None else np.asarray(ref_u_rel, float)
+    used["ref_rel"] = np.isfinite(unc["ref_rel"])
     for k in SCALAR_INPUTS:
-        value = {"density": density, "depth": depth}.get(k)
+        value = {"density": density, "depth": depth, "ref_rel": np.zeros(R)}.get(k)
         value = s[_STACK_SCALAR[k]] if value is None else value
         nominal.append(np.asarray(value, float)[:, None])
         sigma.append(np.where(used[k], unc[k], 0.0)[:, None])
@@ -149,7 +154,7 @@ def evaluate(layout: InputLayout, setup: ReductionSetup, U: np.ndarray, p_ref: R
     """Run the reduction on inputs U (R, K, m) (or (R, m)); adds ``T`` and ``T_ref``."""
     x = layout.to_mapping(U)
     T_ref = air_reference_temperature(x, setup)
-    out = reduce_chain(x, setup, p_ref.values(T_ref, p_shift))
+    out = reduce_chain(x, setup, p_ref.values(T_ref, p_shift) * (1.0 + x["ref_rel"]))
     out["T"] = x["T"]
     out["T_ref"] = T_ref
     return out

@@ -49,3 +49,34 @@ def test_p_vap_correlated_values_carry_the_covariance():
     cov = np.array(covariance_matrix(pv))
     np.testing.assert_allclose(cov, a.cov_ln_p * np.outer(a.p_vap, a.p_vap), rtol=1e-9)
     assert pv[0].nominal_value == pytest.approx(a.p_vap[0])
+
+
+def test_published_p_vap_at_the_air_reference_carries_its_uncertainty():
+    """The curve's relative uncertainty (vpkit.reference.CURVE_U_REL: 1 % for an Antoine
+    set) enters as an input scaling p_vap at the air reference; its Jacobian column is
+    d ln p/d p_ref times p_ref (chain rule), and it is absent when p_vap there is solved
+    with the fit."""
+    import vpkit
+    from tests.conftest import make_run
+
+    run = make_run("ethanol")
+    a = vpkit.analyze(run, vapor_at_air_reference="reference", warn=False)
+    j = a.inputs.names.index("ref_rel")
+    assert a.inputs.sigma[j] == 0.01
+    r = a.result
+    p_ref = r.p_ref[0]
+    h = 1e-3 * p_ref
+    # central difference of ln p_vap in p_ref, by redoing the reduction by hand
+    from vpkit import reduce as rd
+    si = a.si
+    V_room = (si.mass_before - si.mass_after) / (si.density - rd.gas_density(si.P_bar, si.T_room))
+    V = V_room - si.room_reading + si.reading
+
+    def lnp(pr):
+        n = rd.air_amount(si.P_bar, pr, V_room, si.T_room)
+        return np.log(si.P_bar - n * 8.314462618 * si.T / V)
+
+    expected = (lnp(p_ref + h) - lnp(p_ref - h)) / (2 * h) * p_ref
+    np.testing.assert_allclose(a.jacobian[:, j], expected, rtol=1e-5)
+    fit_mode = vpkit.analyze(run, vapor_at_air_reference="fit", warn=False)
+    assert fit_mode.inputs.sigma[fit_mode.inputs.names.index("ref_rel")] == 0.0
