@@ -22,6 +22,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import uncertainties
 
 from .choices import Choices, setup_rows
@@ -208,15 +209,25 @@ class Analysis:
         """Analyse the same run again with some choices changed."""
         return analyze(self.run, **{**self.options, **changes})
 
-    def monte_carlo(self, draws: int = 100_000, seed: int = 0) -> MonteCarloResult:
+    def monte_carlo(self, draws: int = 100_000, seed: int = 0,
+                    inputs: Iterable[str] | None = None) -> MonteCarloResult:
         """Propagate the input distributions by Monte Carlo (GUM Supplement 1).
 
         Every uncertain input is drawn from its normal distribution; each draw
         is reduced (solving the self-consistent air amount per draw where that
         choice was made) and fitted with the weights of the nominal fit. ΔH_vap
-        is taken at the nominal T_m.
+        is taken at the nominal T_m. ``inputs`` limits the draws to some inputs
+        (names as in ``inputs.names``, e.g. ``"T_room"``, or budget groups such
+        as ``"bath thermometer"``); the others stay at their values.
         """
-        return _monte_carlo(self, draws, seed)
+        return _monte_carlo(self, draws, seed, inputs)
+
+    def budget(self) -> pd.DataFrame:
+        """The uncertainty budget (:func:`vpkit.budget.budget_table`): each input group's
+        contribution to u(ΔH_vap), u(T_b) and u(true ΔvapH), its share, and u if halved."""
+        from .budget import budget_table
+
+        return budget_table(self.result, self.index)
 
     def choice_shifts(self) -> dict[str, float]:
         """How far other workable choices move ΔH_vap [J/mol] (nominal fits).
@@ -403,11 +414,24 @@ def analyze(
     return a
 
 
-def _monte_carlo(a: Analysis, draws: int, seed: int) -> MonteCarloResult:
+def _monte_carlo(a: Analysis, draws: int, seed: int, inputs=None) -> MonteCarloResult:
     res, r = a.result, a.index
     lay = res.layout
     rng = np.random.default_rng(seed)
-    U = lay.nominal[r] + rng.standard_normal((draws, lay.nominal.shape[1])) * lay.sigma[r]
+    sigma = lay.sigma[r]
+    if inputs is not None:
+        from .budget import GROUPS, group_of
+
+        wanted = {str(x) for x in inputs}
+        unknown = wanted - set(GROUPS) - {n.split("[")[0] for n in lay.names}
+        if unknown:
+            raise BadValueError(f"unknown input(s) {', '.join(sorted(unknown))}",
+                                column="inputs", hint="use names of Analysis.inputs.names "
+                                "or budget groups: " + ", ".join(GROUPS))
+        keep = np.array([n.split("[")[0] in wanted or group_of(n) in wanted
+                         for n in lay.names])
+        sigma = np.where(keep, sigma, 0.0)
+    U = lay.nominal[r] + rng.standard_normal((draws, lay.nominal.shape[1])) * sigma
     layout = InputLayout(lay.N, U, np.broadcast_to(lay.sigma[r], U.shape))
     rows = np.zeros(draws, int) + r
     setup = setup_rows(res.resolved.setup, rows)

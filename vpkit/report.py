@@ -77,6 +77,31 @@ def true_text(r) -> str:
     return out
 
 
+def budget_markdown(a) -> list[str]:
+    """The uncertainty budget as Markdown lines (largest contribution first)."""
+    try:
+        b = a.budget()
+    except (ValueError, KeyError, FloatingPointError):  # a failed fit has no budget
+        return []
+    body = b.drop(index="total").sort_values(("ΔH_vap", "share"), ascending=False)
+    tot = b.loc["total"]
+    out = ["", "## Uncertainty budget", "",
+           "Inputs are independent (a quantity every point shares is one input), so the "
+           "shares of u² add to 100 % with no cross terms.", "",
+           "| input group | u(ΔH_vap) from it [kJ/mol] | share | u(ΔH_vap) if halved "
+           "[kJ/mol] | u(T_b) from it [K] |", "|---|---|---|---|---|"]
+    for g, row in body.iterrows():
+        if row[("ΔH_vap", "share")] < 1e-4 and row[("T_b at 101.325 kPa", "share")] < 1e-4:
+            continue
+        out.append(f"| {g} | {D.number(row[('ΔH_vap', 'u from it')], digits=2)} | "
+                   f"{D.number(100 * row[('ΔH_vap', 'share')], '%', 2)} | "
+                   f"{D.number(row[('ΔH_vap', 'u if halved')], digits=2)} | "
+                   f"{D.number(row[('T_b at 101.325 kPa', 'u from it')], digits=2)} |")
+    out.append(f"| total | {D.number(tot[('ΔH_vap', 'u from it')], digits=2)} | 100 % | | "
+               f"{D.number(tot[('T_b at 101.325 kPa', 'u from it')], digits=2)} |")
+    return out
+
+
 def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
     """A Markdown summary: headline numbers, choices, exclusions, warnings, safety.
 
@@ -146,6 +171,7 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
             row = a.run.row_of(i)
             where = f", file row {row}" if row is not None else ""
             lines.append(f"- point {i} ({D.number(C(a.T[i]), 'degC')}{where}): {why}")
+    lines += budget_markdown(a)
     if shifts:
         lines += ["", "## How other choices would move ΔH_vap", "",
                   "| choice | ΔH_vap shift [kJ/mol] |", "|---|---|"]
@@ -173,6 +199,8 @@ def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None
     paths["points"] = out / f"{stem}_points.csv"
     paths["results"] = out / f"{stem}_results.csv"
     paths["summary"] = out / f"{stem}_summary.md"
+    paths["budget"] = out / f"{stem}_budget.csv"
+    a.budget().to_csv(paths["budget"], float_format=CSV_FLOAT)
     a.points().to_csv(paths["points"], index=False, float_format=CSV_FLOAT)
     a.results().to_csv(paths["results"], index=False, float_format=CSV_FLOAT)
     paths["summary"].write_text(a.summary(), encoding="utf-8")
