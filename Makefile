@@ -34,6 +34,7 @@ bench: $(VENV)/.test
 	$(PY) benchmarks/bench_core.py
 	$(PY) benchmarks/bench_panel.py --browser
 	$(PY) benchmarks/bench_batch.py
+	$(PY) benchmarks/bench_planner.py
 
 clean:
 	rm -rf $(VENV) out .pytest_cache

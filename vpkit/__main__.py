@@ -52,10 +52,102 @@ def main(argv: list[str] | None = None) -> int:
                    "single run file")
     q.add_argument("--out", type=Path, default=Path("vpkit-report"), help="output folder")
     _options(q)
+    _plan_options(sub.add_parser(
+        "plan", help="predict what a planned run will give, and search for a better plan"))
     args = parser.parse_args(argv)
     if args.command == "report":
         return _report(args)
+    if args.command == "plan":
+        return _plan(args)
     return _analyze(args)
+
+
+def _floats(text: str) -> list[float]:
+    return [float(x) for x in text.replace(";", ",").split(",") if x.strip()]
+
+
+def _plan_options(p) -> None:
+    p.add_argument("liquid", help="a bundled liquid (see vpkit.reference.liquids())")
+    p.add_argument("--bubble", type=float, default=2.0, help="gas volume at the room "
+                   "reading [mL] (default 2)")
+    p.add_argument("--from", dest="t_from", type=float, default=25.0,
+                   help="first bath temperature [degC]")
+    p.add_argument("--to", dest="t_to", type=float, default=60.0,
+                   help="last bath temperature [degC]")
+    p.add_argument("--points", type=int, default=8, help="number of bath temperatures")
+    p.add_argument("--barometer", type=float, default=100.0, help="expected pressure [kPa]")
+    p.add_argument("--room", type=float, default=21.0, help="room temperature [degC]")
+    p.add_argument("--reading-u", type=float, default=0.005,
+                   help="standard uncertainty of one graduation reading [mL]")
+    p.add_argument("--thermometer-u", type=float, default=0.2,
+                   help="standard uncertainty of the bath thermometer [K]")
+    p.add_argument("--capacity", type=float, default=None, help="tube capacity [mL]")
+    p.add_argument("--search", action="store_true", help="look for a better plan")
+    p.add_argument("--bubbles", type=_floats, default=None,
+                   help="bubble sizes available for the search [mL], e.g. 1,2,3")
+    p.add_argument("--bath", type=_floats, default=None,
+                   help="bath range for the search [degC], e.g. 20,90")
+    p.add_argument("--max-points", type=int, default=None,
+                   help="most bath temperatures the search may use")
+
+
+def _plan(args) -> int:
+    import numpy as np
+
+    from . import display as D
+    from .constants import T_ZERO_C
+    from .planner import Plan, predict, search
+    from .report import SAFETY_NOTE
+
+    try:
+        plan = Plan(args.liquid, args.bubble * 1e-6,
+                    tuple(np.linspace(args.t_from, args.t_to, args.points) + T_ZERO_C),
+                    P_bar=args.barometer * 1e3, T_room=args.room + T_ZERO_C,
+                    instruments={"reading": args.reading_u * 1e-6, "T": args.thermometer_u},
+                    capacity=None if args.capacity is None else args.capacity * 1e-6)
+        if args.search:
+            bath = None if args.bath is None else (args.bath[0] + T_ZERO_C,
+                                                   args.bath[1] + T_ZERO_C)
+            found = search(plan, bubble_volumes=None if args.bubbles is None
+                           else [v * 1e-6 for v in args.bubbles], bath=bath,
+                           max_points=args.max_points)
+            given, best = found.given, found.best
+        else:
+            [given] = predict([plan])
+            best = None
+    except VpkitError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    _print_prediction("planned run", given, D)
+    if best is not None:
+        if best is given:
+            print(f"search: no better workable plan among {found.candidates} tried")
+        else:
+            _print_prediction(f"best of {found.candidates} plans tried", best, D)
+            print(f"gain: u(ΔH_vap) {found.gain:.1f} times smaller")
+    print(SAFETY_NOTE)
+    return 0
+
+
+def _print_prediction(title, p, D) -> None:
+    pl = p.plan
+    t = p.points["t [degC]"]
+    print(f"{title}: {pl.liquid}, {D.number(pl.bubble_volume * 1e6, 'mL', 3)} bubble, "
+          f"{len(t)} points from {D.number(t.min(), 'degC', 3)} to "
+          f"{D.number(t.max(), 'degC', 3)}")
+    print("  t [degC]  expected reading [mL]  gas volume [mL]  p_vap [kPa]  amplification")
+    for _, row in p.points.iterrows():
+        print(f"  {row['t [degC]']:8.1f}  {row['expected reading [mL]']:21.3f}  "
+              f"{row['gas volume [mL]']:15.3f}  {row['p_vap [kPa]']:11.3f}  "
+              f"{row['amplification P_total/p_vap']:13.1f}")
+    print(f"  expected u(ΔH_vap) = {D.number(p.u_enthalpy / 1e3, 'kJ/mol', 2)}; "
+          f"u(T_b at 101.325 kPa) = {D.number(p.u_T_b, 'K', 2)}; extrapolation bias of "
+          f"T_b = {D.signed(p.bias_T_b, 'K', 2)}")
+    b = p.budget().drop(index="total").sort_values(("ΔH_vap", "share"), ascending=False)
+    top = [f"{g} {100 * row[('ΔH_vap', 'share')]:.0f} %" for g, row in b.head(3).iterrows()]
+    print(f"  largest shares of u(ΔH_vap)²: {', '.join(top)}")
+    for w in p.warnings:
+        print(f"  warning: {w}")
 
 
 def _analyze(args) -> int:

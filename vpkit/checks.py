@@ -36,7 +36,7 @@ from .errors import (
 )
 from .fit import chi2_limits
 from .reduce import FLAG_TEXT
-from .reference import outside_range_text
+from .reference import melting_point, outside_range_text
 from .selfconsistent import SELF_CONSISTENT_TOL
 
 _IMPOSSIBLE = ("volume", "p_low", "p_high")
@@ -109,6 +109,13 @@ def _method_checks(res, add) -> None:
         f"at {_t(T[r, i_fr[r]])} p_vap is {100 * top[r]:.0f} % of the pressure on the gas and "
         f"the bubble has grown {growth[r]:.1f} times: close to boiling, the volume runs away "
         "(check that it stayed in the tube)"))
+    T_melt = np.array([melting_point(x) for x in res.stack.liquid], float)
+    frozen = res.stack.mask & (T < T_melt[:, None])
+    i_cold = np.argmin(np.where(frozen, T, np.inf), axis=1)
+    add(frozen.any(axis=1), "below melting point", ImpossiblePointWarning, lambda r: (
+        f"{int(frozen[r].sum())} point(s) lie below the melting point of "
+        f"{res.stack.liquid[r]} ({_t(T_melt[r])}), the coldest at {_t(T[r, i_cold[r]])}: "
+        "the liquid freezes there, so no bubble reading there can be trusted"))
     cap = res.stack.scalar["capacity"]
     over = res.stack.mask & (res.V > cap[:, None])
     i_over = np.argmax(np.where(over, res.V, -np.inf), axis=1)

@@ -98,6 +98,18 @@ def vaporization_enthalpy(liquid: str, T):
                           + r["D"] * tau**2 + r["E"] * tau**6)
 
 
+@functools.cache
+def melting_point(liquid: str) -> float:
+    """Melting point [K] of a bundled liquid (CRC Handbook, ``vpkit/data/melting_points.csv``),
+    NaN for a liquid without one."""
+    if not has_reference(liquid):
+        return math.nan
+    with resources.files("vpkit.data").joinpath("melting_points.csv").open("r") as fh:
+        t = pd.read_csv(fh, comment="#")
+    hit = t[t["liquid"] == canonical_name(liquid)]
+    return float(hit.iloc[0]["T_melt"]) if len(hit) else math.nan
+
+
 def per_liquid(liquids, has, fn, *arrays) -> np.ndarray:
     """``fn(liquid, *rows)`` for the rows of each distinct liquid (NaN where ``has`` is
     False): one call per liquid, not per run."""

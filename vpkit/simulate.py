@@ -105,6 +105,7 @@ def simulate_run(
     rng: np.random.Generator | None = None,
     comments: tuple[str, ...] = (),
     notes: str = "",
+    stated: Mapping[str, float] | None = None,
 ) -> Run:
     """Simulate the raw record of one run.
 
@@ -129,6 +130,9 @@ def simulate_run(
         Standard deviations (SI) of reading noise per kind (see :data:`NOISE`);
         None for exact readings.
     rng : numpy Generator, optional
+    stated : mapping, optional
+        Standard uncertainties to write into the run (same keys; default: the
+        ``noise``), e.g. exact readings that state the instruments' uncertainty.
 
     Returns
     -------
@@ -156,10 +160,12 @@ def simulate_run(
     def val(x, unit, kind):
         return float(from_si(x, unit, kind))
 
+    said = noise if stated is None else stated
+
     def unc(key, unit, kind):
-        if noise is None or not noise.get(key):
+        if said is None or not said.get(key):
             return None
-        return float(from_si(noise[key], unit, kind, delta=True))
+        return float(from_si(said[key], unit, kind, delta=True))
 
     entries = [
         ("liquid", Entry(liquid)),
@@ -187,13 +193,13 @@ def simulate_run(
     if boiling_point is not None:
         entries.append(("boiling_point", Entry(val(boiling_point, u["T"], "temperature"),
                                                u["T"])))
-    if noise is not None:
-        if noise.get("reading"):
-            entries.append(("reading_uncertainty", Entry(val(noise["reading"], u["V"], "volume"),
+    if said is not None:
+        if said.get("reading"):
+            entries.append(("reading_uncertainty", Entry(val(said["reading"], u["V"], "volume"),
                                                          u["V"])))
-        if noise.get("T"):
+        if said.get("T"):
             entries.append(("temperature_uncertainty",
-                            Entry(float(from_si(noise["T"], u["T"], "temperature", delta=True)),
+                            Entry(float(from_si(said["T"], u["T"], "temperature", delta=True)),
                                   u["T"])))
     if notes:
         entries.append(("notes", Entry(notes)))

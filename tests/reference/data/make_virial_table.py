@@ -1,4 +1,4 @@
-"""Write vpkit/data/virial_tsonopoulos.csv and vpkit/data/hvap_vdi_ppds.csv.
+"""Write vpkit/data/virial_tsonopoulos.csv, hvap_vdi_ppds.csv and melting_points.csv.
 
 virial_tsonopoulos.csv: what the Tsonopoulos correlation of the second virial
 coefficient needs for each bundled liquid: critical temperature and pressure and
@@ -76,7 +76,21 @@ def main() -> None:
         out.append(f"{r.liquid},{r.cas},{g(d.Tc)},{g(d.A)},{g(d.B)},{g(d.C)},"
                    f"{g(d.D)},{g(d.E)}")
     (DATA / "hvap_vdi_ppds.csv").write_text("\n".join(head + out) + "\n", encoding="utf-8")
-    print(f"wrote {DATA / 'virial_tsonopoulos.csv'} and {DATA / 'hvap_vdi_ppds.csv'}")
+    head = [
+        "# Melting points [K]: CRC Handbook of Chemistry and Physics (organic and inorganic",
+        f"# tables), as tabulated in chemicals {chemicals.__version__} (chemicals.Tm, methods "
+        "CRC_ORG / CRC_INORG).",
+        "# Written by tests/reference/data/make_virial_table.py; used to warn of a bath below "
+        "the freezing point.",
+        "liquid,cas,T_melt",
+    ]
+    out = []
+    for r in rows:
+        method = "CRC_INORG" if r.liquid == "water" else "CRC_ORG"
+        out.append(f"{r.liquid},{r.cas},{g(chemicals.Tm(r.cas, method=method))}")
+    (DATA / "melting_points.csv").write_text("\n".join(head + out) + "\n", encoding="utf-8")
+    print(f"wrote {DATA / 'virial_tsonopoulos.csv'}, {DATA / 'hvap_vdi_ppds.csv'} and "
+          f"{DATA / 'melting_points.csv'}")
 
 
 if __name__ == "__main__":
