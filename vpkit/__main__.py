@@ -27,6 +27,9 @@ def _options(p: argparse.ArgumentParser) -> None:
                    help="reference equation for the comparison (auto: IAPWS-95 for water, "
                    "the PPDS equation for 2-propanol and 1-butanol, the Antoine set otherwise)")
     p.add_argument("--no-head", action="store_true", help="ignore the hydrostatic head")
+    p.add_argument("--water-layer", action="store_true",
+                   help="the liquid floats on water that touches the bubble: subtract the "
+                   "water's vapor pressure (IAPWS-95) too")
     p.add_argument("--ignore-session", action="store_true",
                    help="analyse the run files as written, without their saved exclusions")
 
@@ -35,7 +38,7 @@ def _choices(args) -> dict:
     return dict(model=args.model, weighting=args.weighting, air_from=args.air_from,
                 vapor_at_air_reference=args.vapor_at_air_reference,
                 reference=None if args.reference == "none" else args.reference,
-                use_head=not args.no_head)
+                use_head=not args.no_head, water_layer=args.water_layer)
 
 
 def main(argv: list[str] | None = None) -> int:

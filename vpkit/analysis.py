@@ -334,6 +334,7 @@ def analyze(
     reference_liquid: str | None = None,
     bubble_depth: float | None = None,
     temperature_errors: bool = True,
+    water_layer: bool = False,
     thresholds: Mapping[str, float] | None = None,
     warn: bool = True,
 ) -> Analysis:
@@ -372,6 +373,9 @@ def analyze(
         not changed).
     temperature_errors : bool
         Fold the thermometer's uncertainty into the fit (effective variance).
+    water_layer : bool
+        The liquid floats on water that touches the bubble too: subtract water's
+        vapor pressure (IAPWS-95) as well (see :class:`vpkit.choices.Choices`).
     thresholds : mapping, optional
         Overrides of :data:`vpkit.choices.DEFAULT_THRESHOLDS` for the checks.
     warn : bool
@@ -393,7 +397,8 @@ def analyze(
                       vapor_at_air_reference=vapor_at_air_reference, cold_index=cold_index,
                       use_head=use_head, gas_mass=gas_mass, reference=reference,
                       reference_liquid=reference_liquid, bubble_depth=bubble_depth,
-                      temperature_errors=temperature_errors, thresholds=dict(thresholds or {}))
+                      temperature_errors=temperature_errors, water_layer=water_layer,
+                      thresholds=dict(thresholds or {}))
     stack = stack_runs([run])
     n = run.n_points
     include = np.array(run.include, bool)

@@ -51,7 +51,11 @@ def methods_paragraph(many) -> str:
         "zero mark, calibrated from the weighing (the trapped gas's own mass "
         f"{'included' if c.gas_mass else 'ignored'}); {head}. The air amount came from "
         f"{AIR_TEXT[c.air_from]}, with the vapor pressure at the air-reference temperature "
-        f"{vap}. ΔH_vap was obtained from a {ok['model'].iloc[0] if len(ok) else c.model} fit "
+        f"{vap}."
+        + (" The liquid floated on water touching the bubble, so the saturation pressure of "
+           "water (IAPWS-95) was subtracted as well, at every point and at the air "
+           "reference." if c.water_layer else "")
+        + f" ΔH_vap was obtained from a {ok['model'].iloc[0] if len(ok) else c.model} fit "
         f"of ln p against T by {WEIGHT_TEXT[c.weighting]}; it is the apparent value (ideal "
         "vapor, liquid volume neglected) at T_m, the mean of 1/T weighted as the fit weighs "
         "the points. The true ΔvapH is the apparent value times Δz = 1 + p(B − V_l)/(RT), "

@@ -76,6 +76,10 @@ class Choices:
         Compare with another liquid's equation (default: the run's liquid).
     bubble_depth : float or None
         Bubble depth [m] to use instead of the runs' own (a what-if).
+    water_layer : bool
+        The liquid floats on water, which touches the bubble too (a common variant
+        of the method): the gas then holds both vapors, and the water's (IAPWS-95)
+        is subtracted with the air's, at every point and at the air reference.
     thresholds : mapping
         Overrides of :data:`DEFAULT_THRESHOLDS`.
     """
@@ -91,6 +95,7 @@ class Choices:
     reference_liquid: str | None = None
     bubble_depth: float | None = None
     temperature_errors: bool = True
+    water_layer: bool = False
     thresholds: Mapping[str, float] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
@@ -186,6 +191,13 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
              else np.array(stack.scalar["depth"], float))
     mode = _vapor_mode(stack, choices, own_code >= 0, fail)
     cold = _cold_index(stack, choices, fail)
+    if choices.water_layer:
+        for r in range(R):
+            if refmod.has_reference(stack.liquid[r]) and refmod.canonical_name(
+                    stack.liquid[r]) == "water":
+                fail(r, BadValueError("water_layer means a liquid floating on water; this run's "
+                                      "liquid is water itself", column="water_layer",
+                                      hint="analyse water runs without water_layer"))
     setup = ReductionSetup(air_from=choices.air_from, gas_mass=bool(choices.gas_mass),
                            direction=readonly(stack.direction),
                            offset_from_weighing=readonly(~np.isnan(stack.scalar["mass_before"])),
@@ -194,7 +206,8 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                                              & ~np.isnan(depth)),
                            room_head=readonly(np.full(R, bool(choices.use_head))),
                            moisture_dissolves=readonly(np.array(
-                               [_takes_up_water(x) for x in stack.liquid], bool)))
+                               [_takes_up_water(x) for x in stack.liquid], bool)),
+                           water_layer=bool(choices.water_layer))
     return Resolved(readonly(density), readonly(depth),
                     refmod.CurveSet.from_codes(curves, own_code),
                     refmod.CurveSet.from_codes(curves, compare_code), readonly(mode), setup,
@@ -313,7 +326,7 @@ def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:
     return ReductionSetup(setup.air_from, setup.gas_mass, pick(setup.direction),
                           pick(setup.offset_from_weighing), pick(setup.cold_index),
                           pick(setup.use_head), pick(setup.room_head),
-                          pick(setup.moisture_dissolves))
+                          pick(setup.moisture_dissolves), setup.water_layer)
 
 
 #: Liquids that take up the water vapor of injected air (water itself, and liquids

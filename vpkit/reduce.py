@@ -129,6 +129,10 @@ class ReductionSetup:
     moisture_dissolves : bool or ndarray (R,)
         The water vapor of the injected air leaves the gas (the liquid is water
         or takes water up), so the air amount counts dry air only.
+    water_layer : bool
+        The liquid floats on water that also touches the gas: water's saturation
+        pressure (IAPWS-95) is subtracted as well, at every point and at the air
+        reference (Dalton's law with three components) [1].
     """
 
     air_from: str = "weighed"
@@ -139,6 +143,7 @@ class ReductionSetup:
     use_head: bool | np.ndarray = True
     room_head: bool | np.ndarray = False
     moisture_dissolves: bool | np.ndarray = False
+    water_layer: bool = False
 
 
 def _b(value, like):
@@ -201,6 +206,9 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
                           / (np.pi * np.where(moves, bore, 1.0)[..., None] ** 2 / 4.0), 0.0)
         rho = get("density")[..., None]
         P_total = total_pressure(P, depth[..., None] + travel, rho)
+        # over a water layer the water's vapor is one more partial pressure (Dalton)
+        water = (lambda t: _water_vapor_pressure(t)) if setup.water_layer else (
+            lambda t: 0.0)
         if setup.air_from == "injected":
             dry = np.where(_b(setup.moisture_dissolves, P_bar) & np.isfinite(get("RH")),
                            get("RH") * _water_vapor_pressure(T_room), 0.0)
@@ -210,16 +218,16 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
                               np.where(moves, depth, np.nan))
             h_room = np.where(_b(setup.room_head, P_bar) & np.isfinite(h_room), h_room, 0.0)
             P_room = total_pressure(P_bar, h_room, get("density"))
-            n_air = air_amount(P_room, p_ref, V_room, T_room)
+            n_air = air_amount(P_room, p_ref + water(T_room), V_room, T_room)
         elif setup.air_from == "cold":
             c = np.broadcast_to(_b(setup.cold_index, P_bar), np.shape(P_bar)).astype(int)
             take = lambda a: np.take_along_axis(  # noqa: E731
                 a, np.broadcast_to(c[..., None], np.shape(a)[:-1] + (1,)), axis=-1)[..., 0]
-            n_air = air_amount(take(P_total), p_ref, take(V), take(T))
+            n_air = air_amount(take(P_total), p_ref + water(take(T)), take(V), take(T))
         else:
             raise ValueError(f"air_from must be one of {AIR_METHODS}, got {setup.air_from!r}")
         p_air = air_partial_pressure(n_air[..., None], V, T)
-        p_vap = vapor_pressure(P_total, p_air)
+        p_vap = vapor_pressure(P_total, p_air) - water(T)
     return {"V": V, "P_total": P_total, "p_air": p_air, "p_vap": p_vap, "n_air": n_air,
             "V_room": V_room}
 

@@ -37,7 +37,7 @@ CHOICE_TYPES: dict[str, tuple[type, ...]] = {
     "model": (str,), "weighting": (str,), "air_from": (str,),
     "vapor_at_air_reference": (str,), "use_head": (bool,), "gas_mass": (bool,),
     "bubble_depth": (float, int, type(None)), "reference_liquid": (str, type(None)),
-    "pressure_unit": (str,), "temperature_unit": (str,),
+    "pressure_unit": (str,), "temperature_unit": (str,), "water_layer": (bool,),
 }
 
 

@@ -52,10 +52,10 @@ DEFAULT_CHOICES: dict[str, Any] = {
     "model": "clausius_clapeyron", "weighting": "gls", "air_from": "weighed",
     "vapor_at_air_reference": "auto", "use_head": True, "gas_mass": True,
     "bubble_depth": None, "reference_liquid": None, "pressure_unit": "kPa",
-    "temperature_unit": "degC",
+    "temperature_unit": "degC", "water_layer": False,
 }
 ANALYSIS_KEYS = ("model", "weighting", "air_from", "vapor_at_air_reference", "use_head",
-                 "gas_mass", "bubble_depth", "reference_liquid")
+                 "gas_mass", "bubble_depth", "reference_liquid", "water_layer")
 
 
 def explore(run_or_path, *, canvas: str = "auto", autosave: bool = True) -> RunPanel:
@@ -270,6 +270,8 @@ class RunPanel:
                                           style=style, layout=lay)
         self.w_gas = W.Checkbox(value=c["gas_mass"], description="gas mass in weighing",
                                 indent=False)
+        self.w_layer = W.Checkbox(value=c["water_layer"], indent=False,
+                                  description="liquid floats on water (subtract its vapor)")
         liquids = refmod.liquids()
         self.w_ref = W.Dropdown(options=[("none", None)] + [(x, x) for x in liquids],
                                 value=c["reference_liquid"] if c["reference_liquid"] in liquids
@@ -280,6 +282,7 @@ class RunPanel:
         self.w_tunit = W.Dropdown(options=TEMPERATURE_UNITS, value=c["temperature_unit"],
                                   description="temperature unit", style=style, layout=lay)
         for w in (self.w_model, self.w_air, self.w_vapor, self.w_head, self.w_depth, self.w_gas,
+                  self.w_layer,
                   self.w_ref, self.w_punit, self.w_tunit):
             w.observe(self._on_choice, names="value")
         # boiling point at another pressure
@@ -330,7 +333,8 @@ class RunPanel:
             self._image = W.Image(format="png", layout=W.Layout(width="620px"))
             self.w_figure = self._image
         controls = W.VBox([W.HTML("<b>Choices</b>"), self.w_model, self.w_air, self.w_vapor,
-                           self.w_head, self.w_depth, self.w_gas, self.w_ref, self.w_punit,
+                           self.w_head, self.w_depth, self.w_gas, self.w_layer, self.w_ref,
+                           self.w_punit,
                            self.w_tunit, W.HTML("<b>Boiling point at another pressure</b>"),
                            self.w_pressure, self.w_tb_other],
                           layout=W.Layout(flex="0 0 auto", min_width="450px"))
@@ -362,7 +366,8 @@ class RunPanel:
             model=model, weighting=weighting, air_from=self.w_air.value,
             vapor_at_air_reference=self.w_vapor.value, use_head=bool(self.w_head.value),
             gas_mass=bool(self.w_gas.value), reference_liquid=self.w_ref.value,
-            pressure_unit=self.w_punit.value, temperature_unit=self.w_tunit.value)
+            pressure_unit=self.w_punit.value, temperature_unit=self.w_tunit.value,
+            water_layer=bool(self.w_layer.value))
         own = self.run.to_si().depth
         if own is None and depth_cm == 0.0:
             self.choices["bubble_depth"] = None
@@ -410,6 +415,7 @@ class RunPanel:
         self.w_vapor.value = c["vapor_at_air_reference"]
         self.w_head.value = c["use_head"]
         self.w_gas.value = c["gas_mass"]
+        self.w_layer.value = c["water_layer"]
         if c["bubble_depth"] is not None:
             self.w_depth.value = round(c["bubble_depth"] * 100, 3)
         self.w_ref.value = c["reference_liquid"] if c["reference_liquid"] in refmod.liquids() \
