@@ -24,6 +24,7 @@ from .errors import (
 )
 from .fit import FitResult, fit_points
 from .planner import plan
+from .reading_check import check_reading
 from .reference import compare_to_reference, liquids, reference_curve
 from .run import Entry, Run
 from .runfile import format_run, parse_run, read_run, write_run
@@ -54,7 +55,7 @@ def overview(source, **options):
 
 __all__ = [
     "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError",
-    "InputError", "Run", "RunStack", "stack_runs",
+    "InputError", "Run", "RunStack", "check_reading", "stack_runs",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
     "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "plan", "read_run",
     "reference_curve", "write_run", "display",
