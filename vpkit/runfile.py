@@ -413,3 +413,66 @@ def write_run(run: Run, path) -> Path:
     path = Path(path)
     path.write_text(format_run(run), encoding="utf-8")
     return path
+
+
+def append_reading(path, temperature: float, reading: float, *, include: bool = True,
+                   reason: str = "", decimal: str = ".") -> Run:
+    """Add one reading at the end of a run file, safely; returns the run as now written.
+
+    The line is appended in the file's own delimiter, decimal mark, column order and
+    encoding, so nothing already in the file changes. The new text is read back
+    before it replaces the file (a temporary file in the same folder, flushed to
+    disk, then renamed over the original), so a crash leaves either the old file
+    or the new one, never a half-written one; the run read back must equal the old
+    run plus the new reading, or nothing is written.
+    """
+    import os
+    import tempfile
+
+    path = Path(path)
+    data = path.read_bytes()
+    old = parse_run(data, source=str(path), decimal=decimal)
+    text = _decode(data, str(path))
+    lines = text.splitlines()
+    delim = _sniff_delimiter(lines)
+    try:
+        start = next(i for i, ln in enumerate(lines) if ln.strip().lower() == "[readings]")
+    except StopIteration as exc:  # parse_run would have refused it already
+        raise RunFileError("no [readings] section", file=str(path)) from exc
+    header = next(ln for ln in lines[start + 1:] if ln.strip() and not ln.startswith("#"))
+    names = [_split_header(c)[0].strip().lower()
+             for c in next(csv.reader([header], delimiter=delim))]
+
+    def num(x: float) -> str:
+        return repr(float(x)).replace(".", decimal)
+
+    values = {"bath_temperature": num(temperature), "reading": num(reading), "pressure": "",
+              "include": "yes" if include else "no", "reason": reason}
+    eol = "\r\n" if "\r\n" in text else "\n"
+    out = io.StringIO()
+    csv.writer(out, delimiter=delim, lineterminator=eol).writerow(
+        [values.get(n, "") for n in names])
+    new_text = text + ("" if text.endswith(("\n", "\r")) else eol) + out.getvalue()
+    new = parse_run(new_text, source=str(path), decimal=decimal)
+    expected = (old.bath_temperature + (float(temperature),), old.reading + (float(reading),),
+                old.include + (bool(include),), old.entries)
+    if (new.bath_temperature, new.reading, new.include, new.entries) != expected:
+        raise RunFileError("the reading could not be appended without changing the file's "
+                           "other content; nothing was written", file=str(path),
+                           hint="add the line by hand")
+    codec = "utf-16" if data.startswith((b"\xff\xfe", b"\xfe\xff")) else (
+        "utf-8-sig" if data.startswith(b"\xef\xbb\xbf") else "utf-8")
+    fd, tmp = tempfile.mkstemp(prefix=path.name + ".", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, "w", encoding=codec, newline="") as fh:
+            fh.write(new_text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+    return read_run(path, decimal=decimal)

@@ -149,3 +149,39 @@ def test_figure_updates_in_place(run_file):
     assert not np.array_equal(line.get_ydata(), before)
     x, y = line.get_data()
     np.testing.assert_allclose(y, core(p).fit.ln_p(1000.0 / np.asarray(x)), rtol=1e-12)
+
+
+def test_a_new_reading_is_checked_as_typed_and_appended_to_the_file(tmp_path):
+    """The bench check in the explorer: the message is vpkit.check_reading's; adding
+    appends one line to the run file (everything before it unchanged) and re-analyses."""
+    full = make_run("ethanol", noise=NOISE, rng=np.random.default_rng(5))
+    import dataclasses
+
+    k = 6
+    part = dataclasses.replace(full, bath_temperature=full.bath_temperature[:k],
+                               reading=full.reading[:k], pressure=full.pressure[:k],
+                               include=full.include[:k], reason=full.reason[:k])
+    path = vpkit.write_run(part, tmp_path / "bench.csv")
+    before = path.read_text()
+    p = explore(path, canvas="static")
+    t, good = full.bath_temperature[k], full.reading[k]
+    p.w_new_t.value = t
+    p.w_new_r.value = good + 0.5  # a misread graduation
+    assert "check it" in p.w_new_msg.value
+    assert p.w_new_msg.value.count("expected") == 1
+    p.w_new_r.value = good
+    assert "consistent" in p.w_new_msg.value
+    assert p.check_new(t, good).message in p.w_new_msg.value
+    p.w_new_add.click()
+    after = path.read_text()
+    assert after.startswith(before) and after.count("\n") == before.count("\n") + 1
+    assert p.run.n_points == k + 1 and len(p.include) == k + 1
+    assert p.analysis.n == k + 1
+    assert vpkit.read_run(path).reading[-1] == good
+
+
+def test_budget_bars_show_the_analysis_budget(run_file):
+    p = explore(run_file, canvas="static")
+    b = p.analysis.budget()
+    top = b.drop(index="total")[("ΔH_vap", "share")].idxmax()
+    assert "What limits u(ΔH_vap)" in p.w_budget.value and top in p.w_budget.value

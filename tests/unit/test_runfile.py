@@ -117,3 +117,22 @@ def test_bom_and_latin1(tmp_path):
     assert vpkit.read_run(p).liquid == "ethanol"
     p.write_bytes(GOOD.replace("bath not settled", "bath at 30 °C").encode("latin-1"))
     assert vpkit.read_run(p).reason[1] == "bath at 30 °C"
+
+
+def test_append_reading_keeps_the_file_and_its_dialect(tmp_path):
+    """Appending keeps every byte already written, in the file's delimiter, decimal mark,
+    line ending and encoding (common practice, no source: what a spreadsheet exported)."""
+    from vpkit.runfile import append_reading
+
+    text = ("# vpkit run file, format 1\r\n[run]\r\nquantity;value;unit;uncertainty\r\n"
+            "liquid;ethanol;;\r\nbarometric_pressure;100,1;kPa;\r\n"
+            "room_temperature;21,0;degC;\r\nscale_offset;0,15;mL;\r\n[readings]\r\n"
+            "bath_temperature [degC];reading [mL];include;reason\r\n"
+            "30,0;2,05;yes;\r\n40,0;2,2;yes;\r\n")
+    for codec in ("utf-8", "utf-16"):
+        path = tmp_path / f"semi-{codec}.csv"
+        path.write_bytes(text.encode(codec))
+        run = append_reading(path, 50.0, 2.45, decimal=",")
+        new = path.read_bytes().decode(codec)
+        assert new.startswith(text) and new[len(text):] == "50,0;2,45;yes;\r\n"
+        assert run.reading == (2.05, 2.2, 2.45) and run.bath_temperature[-1] == 50.0

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import html
 import time
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -22,9 +23,10 @@ from ..analysis import Analysis, analyze
 from ..constants import T_ZERO_C
 from ..errors import VpkitError
 from ..plots import COLUMN_WIDTHS
+from ..reading_check import check_reading
 from ..report import SAFETY_NOTE, bias_text, write_outputs
 from ..run import Run
-from ..runfile import read_run
+from ..runfile import append_reading, read_run
 from ..session import (
     SessionError,
     SessionState,
@@ -204,6 +206,7 @@ class RunPanel:
             self._image.value = self.figure.png()
         t3 = time.perf_counter()
         self._render_points()  # the table last: readouts and figure reach the page first
+        self._render_budget()
         self.timings = {"analyze": t1 - t0, "readouts": t2 - t1, "figure": t3 - t2,
                         "table": time.perf_counter() - t3}
         self._save()
@@ -297,21 +300,21 @@ class RunPanel:
         self.w_readouts = W.HTML()
         self.w_messages = W.HTML()
         # points table
-        self._point_rows: list[tuple[W.Checkbox, W.Text, W.HTML]] = []
-        rows = []
-        head = W.HTML("<b>#</b> &nbsp; t, reading, V, p_vap ± u, residual, ΔH shift if left "
-                      "out [kJ/mol]")
-        for i in range(self.run.n_points):
-            cb = W.Checkbox(value=self.include[i], description=str(i), indent=False,
-                            layout=W.Layout(width="60px"))
-            tx = W.Text(value=self.reasons[i], placeholder="reason if excluded",
-                        layout=W.Layout(width="220px"))
-            lab = W.HTML(layout=W.Layout(width="520px"))
-            cb.observe(self._on_include_box(i), names="value")
-            tx.observe(self._on_reason_box(i), names="value")
-            self._point_rows.append((cb, tx, lab))
-            rows.append(W.HBox([cb, tx, lab]))
-        self.w_points = W.VBox([head, *rows])
+        self.w_points = W.VBox()
+        self._build_point_rows()
+        # a new reading at the bench: checked as it is typed, then appended to the file
+        tu, ru, _ = self.run.units
+        self.w_new_t = W.FloatText(description=f"new bath t [{tu}]", style=style,
+                                   layout=W.Layout(width="260px"))
+        self.w_new_r = W.FloatText(description=f"reading [{ru}]", style=style,
+                                   layout=W.Layout(width="220px"))
+        self.w_new_add = W.Button(description="add to the run", layout=W.Layout(width="160px"))
+        self.w_new_msg = W.HTML()
+        self.w_new_t.observe(lambda _: self._on_new_reading(), names="value")
+        self.w_new_r.observe(lambda _: self._on_new_reading(), names="value")
+        self.w_new_add.on_click(lambda _: self._on_add_reading())
+        # uncertainty budget (bars)
+        self.w_budget = W.HTML()
         # export
         self.w_folder = W.Text(value=str(self._default_export_folder()), description="folder",
                                style=style, layout=W.Layout(width="520px"))
@@ -343,9 +346,12 @@ class RunPanel:
         export = W.VBox([W.HTML("<b>Export for a report</b>"), self.w_folder, self.w_width,
                          self.w_dpi, self.w_export, self.w_export_msg])
         safety = W.HTML(f"<small>{html.escape(SAFETY_NOTE)}</small>")
-        self.widget = W.VBox([top, self.w_readouts, self.w_messages,
+        new = W.VBox([W.HTML("<b>Add a reading</b> (checked against the run so far as you "
+                             "type)"), W.HBox([self.w_new_t, self.w_new_r, self.w_new_add]),
+                      self.w_new_msg])
+        self.widget = W.VBox([top, self.w_readouts, self.w_messages, self.w_budget,
                               W.HTML("<b>Points</b> (untick or click a point to exclude it)"),
-                              self.w_points, export, safety])
+                              self.w_points, new, export, safety])
 
     def _default_export_folder(self) -> Path:
         if self.path is not None:
@@ -383,6 +389,87 @@ class RunPanel:
             self.w_pressure.description = f"at pressure [{self.w_punit.value}]"
             self._building = False
         self.refresh()
+
+    def _build_point_rows(self) -> None:
+        self._point_rows: list[tuple[W.Checkbox, W.Text, W.HTML]] = []
+        rows = []
+        head = W.HTML("<b>#</b> &nbsp; t, reading, V, p_vap ± u, residual, ΔH shift if left "
+                      "out [kJ/mol]")
+        for i in range(self.run.n_points):
+            cb = W.Checkbox(value=self.include[i], description=str(i), indent=False,
+                            layout=W.Layout(width="60px"))
+            tx = W.Text(value=self.reasons[i], placeholder="reason if excluded",
+                        layout=W.Layout(width="220px"))
+            lab = W.HTML(layout=W.Layout(width="520px"))
+            cb.observe(self._on_include_box(i), names="value")
+            tx.observe(self._on_reason_box(i), names="value")
+            self._point_rows.append((cb, tx, lab))
+            rows.append(W.HBox([cb, tx, lab]))
+        self.w_points.children = (head, *rows)
+
+    # -- a new reading ------------------------------------------------------------
+    def check_new(self, temperature: float, reading: float):
+        """The bench check of a reading not yet in the run (:func:`vpkit.check_reading`)."""
+        return check_reading(self.current_run(), temperature, reading,
+                             **self.analysis_options())
+
+    def add_reading(self, temperature: float, reading: float, reason: str = "") -> None:
+        """Append a reading to the run (and, when the run came from a file, to the file:
+        an atomic write that keeps everything else in it) and re-analyse."""
+        if self.path is not None:
+            self.run = append_reading(self.path, temperature, reading, reason=reason)
+        else:
+            r = self.run
+            self.run = replace(r, bath_temperature=r.bath_temperature + (float(temperature),),
+                               reading=r.reading + (float(reading),),
+                               pressure=r.pressure + (None,), include=r.include + (True,),
+                               reason=r.reason + (reason,), rows=())
+        self.include.append(True)
+        self.reasons.append(reason)
+        self._building = True
+        self._build_point_rows()
+        self._building = False
+        self.refresh()
+
+    def _on_new_reading(self) -> None:
+        if self._building:
+            return
+        try:
+            c = self.check_new(self.w_new_t.value, self.w_new_r.value)
+        except VpkitError as exc:
+            self.w_new_msg.value = f"<i>{html.escape(str(exc))}</i>"
+            return
+        color = "#a00" if c.suspect else "#060"
+        self.w_new_msg.value = f"<span style='color:{color}'>{html.escape(c.message)}</span>"
+
+    def _on_add_reading(self) -> None:
+        try:
+            self.add_reading(self.w_new_t.value, self.w_new_r.value)
+            self.w_new_msg.value = "<i>added; the run file was updated</i>" if self.path \
+                else "<i>added (the run has no file)</i>"
+        except VpkitError as exc:
+            self.w_new_msg.value = f"<span style='color:#a00'>{html.escape(str(exc))}</span>"
+
+    def _render_budget(self) -> None:
+        """The uncertainty budget of ΔH_vap as bars (shares of u²)."""
+        try:
+            b = self.analysis.budget().drop(index="total")
+        except (ValueError, KeyError):
+            self.w_budget.value = ""
+            return
+        b = b.sort_values(("ΔH_vap", "share"), ascending=False)
+        rows = []
+        for g, row in b.iterrows():
+            share = row[("ΔH_vap", "share")]
+            if share < 0.005:
+                continue
+            rows.append(
+                f"<tr><td>{html.escape(str(g))}</td><td><div style='background:#4a6fa5;"
+                f"height:10px;width:{200 * share:.0f}px'></div></td>"
+                f"<td>{D.number(100 * share, '%', 2)}</td><td>"
+                f"{D.number(row[('ΔH_vap', 'u from it')], 'kJ/mol', 2)}</td></tr>")
+        self.w_budget.value = ("<b>What limits u(ΔH_vap)</b> (share of u²; the rest under "
+                               "0.5 %)<table>" + "".join(rows) + "</table>")
 
     def _on_include_box(self, i):
         def handler(change):
