@@ -44,6 +44,16 @@ def explore(run_or_path, **kwargs):
     return _explore(run_or_path, **kwargs)
 
 
+def plan_panel(liquid, **kwargs):
+    """Open the planner panel (needs ``pip install 'vpkit[notebook]'``).
+
+    See :func:`vpkit.panels.plan_panel`.
+    """
+    from .panels import plan_panel as _plan_panel
+
+    return _plan_panel(liquid, **kwargs)
+
+
 def overview(source, **options):
     """Open the many-run overview panel (needs ``pip install 'vpkit[notebook]'``).
 
@@ -57,6 +67,6 @@ __all__ = [
     "Analysis", "BadValueError", "Entry", "FitError", "FitResult", "ImpossibleDataError",
     "InputError", "Run", "RunStack", "check_reading", "stack_runs",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
-    "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "plan", "read_run",
-    "reference_curve", "write_run", "display",
+    "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "plan",
+    "plan_panel", "read_run", "reference_curve", "write_run", "display",
 ]
