@@ -27,7 +27,8 @@ SUMMARY_COLUMNS = ["run_id", "liquid", "points used", "points total", "T_min [de
                    "deviation from reference [u]", "T_b at 101.325 kPa [degC]",
                    "T_b bias at 101.325 kPa [K]", "measured - predicted T_b [K]",
                    "true ΔvapH at T_m [kJ/mol]", "published ΔvapH at T_m [kJ/mol]",
-                   "ΔS_vap at T_b [J/(mol K)]", "reduced chi2", "flags", "status"]
+                   "ΔS_vap at T_b [J/(mol K)]", "reduced chi2", "u(ΔH_vap) mostly from",
+                   "flags", "status"]
 
 
 def methods_paragraph(many) -> str:

@@ -38,7 +38,7 @@ import numpy as np
 import pandas as pd
 
 from .constants import P_STANDARD
-from .lsq import forward_solve, psum
+from .lsq import back_solve, forward_solve, psum
 
 #: Input groups of the budget: name -> input names (``T``, ``reading``, ``P`` are the
 #: per-point inputs, all points together).
@@ -70,7 +70,11 @@ def group_of(name: str) -> str:
 
 def sensitivities(res) -> dict[str, np.ndarray]:
     """s_qk (R, m) of ΔH_vap at T_m [J/mol], T_b at 101.325 kPa [K] and the true ΔvapH
-    [J/mol] to every input of ``res`` (a StackResult), per unit of the input (SI)."""
+    [J/mol] to every input of ``res`` (a StackResult), per unit of the input (SI).
+
+    Computed by the adjoint: v_q = L⁻ᵀ Z (ZᵀZ)⁻¹ g_q (R, N) with Z = L⁻¹A, then
+    s_q = v_qᵀ (J - D); the same numbers as gᵀM(J - D), without an (R, N, m) solve.
+    """
     f = res.fit
     m = f.model
     N = res.layout.N
@@ -79,27 +83,27 @@ def sensitivities(res) -> dict[str, np.ndarray]:
     T = np.where(inc, f.T, 300.0)
     A = np.where(inc[..., None], m.jac(T, th), 0.0)
     Jd = np.array(res.jacobian, float)
-    slope = np.where(inc, m.df_dT(T, th), 0.0)
     i = np.arange(N)
-    Jd[:, i, i] -= slope  # the T columns: along T as well as in ln p
+    Jd[:, i, i] -= np.where(inc, m.df_dT(T, th), 0.0)  # the T columns: along T as well
     Jd = np.where(inc[..., None], Jd, 0.0)
-    Z = forward_solve(f.chol, A)   # L⁻¹A
-    B = forward_solve(f.chol, Jd)  # L⁻¹(J - D)
-    Z = np.where(inc[..., None], Z, 0.0)
-    B = np.where(inc[..., None], B, 0.0)
+    Z = np.where(inc[..., None], forward_solve(f.chol, A), 0.0)  # L⁻¹A
     G = np.einsum("rnp,rnq->rpq", Z, Z)
-    ZB = np.einsum("rnp,rnk->rpk", Z, B)
     good = f.ok & np.isfinite(G).all(axis=(1, 2)) & (np.abs(np.linalg.det(
         np.where(np.isfinite(G), G, 0.0))) > 0)
     G = np.where(good[:, None, None], G, np.eye(G.shape[-1]))
+    Lt = np.swapaxes(f.chol, -1, -2)
+    _, _, gH = f.enthalpy()
+    _, _, gT, _ = f.boiling_point(P_STANDARD)
+    out = {}
     with np.errstate(all="ignore"):
-        dtheta = np.where(good[:, None, None], np.linalg.solve(G, np.nan_to_num(ZB)), np.nan)
-        _, _, gH = f.enthalpy()
-        _, _, gT, _ = f.boiling_point(P_STANDARD)
-        sH = np.einsum("rp,rpk->rk", gH, dtheta)
-        sT = np.einsum("rp,rpk->rk", gT, dtheta)
+        for q, g in (("ΔH_vap", gH), ("T_b at 101.325 kPa", gT)):
+            w = np.linalg.solve(G, np.nan_to_num(g)[..., None])[..., 0]  # (ZᵀZ)⁻¹ g
+            v = back_solve(Lt, np.where(inc, np.einsum("rnp,rp->rn", Z, w), 0.0))
+            s = np.einsum("rn,rnk->rk", np.where(inc, v, 0.0), Jd)
+            out[q] = np.where(good[:, None], s, np.nan)
     dz = np.where(np.isfinite(res.delta_z), res.delta_z, np.nan)
-    return {"ΔH_vap": sH, "T_b at 101.325 kPa": sT, "true ΔvapH": sH * dz[:, None]}
+    out["true ΔvapH"] = out["ΔH_vap"] * dz[:, None]
+    return out
 
 
 def contributions(res) -> dict[str, np.ndarray]:
@@ -115,6 +119,23 @@ def contributions(res) -> dict[str, np.ndarray]:
     out["true ΔvapH"] = np.concatenate(
         [out["true ΔvapH"], np.maximum(np.nan_to_num(virial), 0.0)[:, None]], axis=1)
     return out
+
+
+def largest_share(res, quantity: str = "ΔH_vap") -> tuple[np.ndarray, np.ndarray]:
+    """Per run (R,): the input group with the largest share of u(quantity)², and that share
+    (empty text and NaN where the run has no budget)."""
+    names = list(GROUPS)
+    index = np.array([names.index(group_of(n)) for n in res.layout.names])
+    c = contributions(res)[quantity][:, :len(index)]
+    per = np.zeros((c.shape[0], len(names)))
+    for g in range(len(names)):
+        per[:, g] = psum(np.where(index == g, c, 0.0))
+    total = per.sum(axis=1)
+    k = np.argmax(per, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = per[np.arange(len(k)), k] / total
+    ok = np.isfinite(share) & (total > 0)
+    return (np.where(ok, np.array(names, dtype=object)[k], ""), np.where(ok, share, np.nan))
 
 
 def budget_table(res, r: int = 0) -> pd.DataFrame:

@@ -190,6 +190,7 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
     depth = (np.full(R, float(choices.bubble_depth)) if choices.bubble_depth is not None
              else np.array(stack.scalar["depth"], float))
     mode = _vapor_mode(stack, choices, own_code >= 0, fail)
+    takes = {x: _takes_up_water(x) for x in set(stack.liquid)}
     cold = _cold_index(stack, choices, fail)
     if choices.water_layer:
         for r in range(R):
@@ -206,7 +207,7 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                                              & ~np.isnan(depth)),
                            room_head=readonly(np.full(R, bool(choices.use_head))),
                            moisture_dissolves=readonly(np.array(
-                               [_takes_up_water(x) for x in stack.liquid], bool)),
+                               [takes[x] for x in stack.liquid], bool)),
                            water_layer=bool(choices.water_layer))
     return Resolved(readonly(density), readonly(depth),
                     refmod.CurveSet.from_codes(curves, own_code),

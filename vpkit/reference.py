@@ -152,6 +152,7 @@ def _row(liquid: str) -> pd.Series:
                      hint="use one of " + ", ".join(table["liquid"]) + ", or reference=None")
 
 
+@functools.cache
 def canonical_name(liquid: str) -> str:
     """The table's name for ``liquid`` (aliases and CAS numbers accepted)."""
     return str(_row(liquid)["liquid"])

@@ -41,6 +41,9 @@ def results_columns(res, rows=None) -> dict:
         beyond = res.T_b_normal[idx] - (t_max + T_ZERO_C)
         true, pub = res.true_enthalpy[idx], res.reference_true_enthalpy[idx]
     curves = [res.resolved.compare_curve[i] for i in idx]
+    from .budget import largest_share
+
+    top_group, top_share = largest_share(res)
     all_ok = res.ok
     ok = all_ok[idx]
     flags = [flags_of(res.findings[i]) for i in idx]
@@ -63,6 +66,8 @@ def results_columns(res, rows=None) -> dict:
         "covariance scaled by chi2": f.scaled[idx],
         "covariance from": {"gls": "GLS", "sandwich": "sandwich",
                             "scatter": "scatter"}[f.cov_method],
+        "u(ΔH_vap) mostly from": top_group[idx],
+        "largest share of u(ΔH_vap)²": top_share[idx],
         "T_b at run pressure [degC]": res.T_b_run[idx] - T_ZERO_C,
         "u(T_b at run pressure) [K]": res.u_T_b_run[idx],
         "T_b at 101.325 kPa [degC]": res.T_b_normal[idx] - T_ZERO_C,
@@ -110,6 +115,7 @@ def results_columns(res, rows=None) -> dict:
 
 #: Columns computed by the analysis (blank for runs that could not be analysed).
 _COMPUTED = ("T_min [degC]", "T_max [degC]", "T_m [K]", "n_air [mmol]", "T_b beyond data [K]",
+             "largest share of u(ΔH_vap)²",
              "published ΔvapH at T_m [kJ/mol]",
              "p_vap at air reference [Pa]", "reference ΔH_vap at T_m [kJ/mol]",
              "reference chord ΔH_vap [kJ/mol]", "reference T_b at 101.325 kPa [degC]",
@@ -121,7 +127,7 @@ RESULT_COLUMNS = (
     "run_id", "liquid", "model", "weighting", "air amount from", "p_vap at air reference",
     "points used", "points total", "T_min [degC]", "T_max [degC]", "T_m [K]",
     "ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]", "reduced chi2", "covariance scaled by chi2",
-    "covariance from",
+    "covariance from", "u(ΔH_vap) mostly from", "largest share of u(ΔH_vap)²",
     "T_b at run pressure [degC]", "u(T_b at run pressure) [K]", "T_b at 101.325 kPa [degC]",
     "u(T_b at 101.325 kPa) [K]", "T_b bias at run pressure [K]", "T_b bias at 101.325 kPa [K]",
     "u(T_b bias) [K]", "T_b bias from", "T_b beyond data [K]", "true ΔvapH at T_m [kJ/mol]",
