@@ -195,6 +195,12 @@ def _parse_number(text: str, source, row, column, decimal=".") -> float:
     return float(t)
 
 
+def parse_number(text: str, *, column: str = "value", decimal: str = ".") -> float:
+    """A number as a person types it, refused with a hint when it is ambiguous (a
+    decimal comma such as '80,5' without ``decimal=','``, a unit typed into the box)."""
+    return _parse_number(str(text), None, None, column, decimal)
+
+
 def _entry_from_cells(name, cells, source, row, decimal) -> Entry:
     value = cells[0] if len(cells) > 0 else ""
     unit = cells[1] if len(cells) > 1 else ""

@@ -116,7 +116,7 @@ def test_display_units_and_other_pressure(run_file):
     p.w_tunit.value = "K"
     p.w_punit.value = "mmHg"
     assert " K" in p.w_readouts.value and "mmHg" in p.w_readouts.value
-    p.w_pressure.value = 400.0  # mmHg: a reduced-pressure distillation
+    p.w_pressure.value = "400"  # mmHg: a reduced-pressure distillation
     Tb = p.analysis.boiling_point(400.0 * 133.322387415)
     assert vpkit.display.value_u(Tb.nominal_value, Tb.std_dev, "K") in p.w_tb_other.value
 
@@ -185,3 +185,17 @@ def test_budget_bars_show_the_analysis_budget(run_file):
     b = p.analysis.budget()
     top = b.drop(index="total")[("ΔH_vap", "share")].idxmax()
     assert "What limits u(ΔH_vap)" in p.w_budget.value and top in p.w_budget.value
+
+
+def test_boiling_point_box_refuses_slips_in_the_unit_typed(run_file):
+    """'80,5' is refused with a decimal-comma hint (not read as 805), a negative pressure
+    is named in the unit typed, and a pressure far beyond the data says how far."""
+    p = explore(run_file, canvas="static")
+    p.w_pressure.value = "80,5"
+    assert "decimal comma" in p.w_tb_other.value and "→" not in p.w_tb_other.value
+    p.w_pressure.value = "-5"
+    assert "-5 kPa" in p.w_tb_other.value
+    p.w_pressure.value = "500"
+    assert "→" in p.w_tb_other.value and "extrapolation" in p.w_tb_other.value
+    p.w_pressure.value = "3"  # 3 kPa: inside the data's range
+    assert "→" in p.w_tb_other.value and "extrapolation" not in p.w_tb_other.value

@@ -26,7 +26,7 @@ from ..plots import COLUMN_WIDTHS
 from ..reading_check import check_reading
 from ..report import SAFETY_NOTE, bias_text, write_outputs
 from ..run import Run
-from ..runfile import append_reading, read_run
+from ..runfile import append_reading, parse_number, read_run
 from ..session import (
     SessionError,
     SessionState,
@@ -289,11 +289,10 @@ class RunPanel:
                   self.w_ref, self.w_punit, self.w_tunit):
             w.observe(self._on_choice, names="value")
         # boiling point at another pressure
-        self.w_pressure = W.FloatText(value=round(float(from_si(self.run.to_si().P_bar,
-                                                                c["pressure_unit"],
-                                                                "pressure")), 3),
-                                      description=f"at pressure [{c['pressure_unit']}]",
-                                      style=style, layout=lay)
+        p0 = float(from_si(self.run.to_si().P_bar, c["pressure_unit"], "pressure"))
+        self.w_pressure = W.Text(value=f"{p0:.6g}",
+                                 description=f"at pressure [{c['pressure_unit']}]",
+                                 style=style, layout=lay)
         self.w_pressure.observe(lambda _: self._render_readouts(), names="value")
         self.w_tb_other = W.HTML()
         # readouts and messages
@@ -384,8 +383,11 @@ class RunPanel:
         if change.owner is self.w_punit:
             self._building = True
             old = change.old
-            self.w_pressure.value = round(float(from_si(_to_pa(self.w_pressure.value, old),
-                                                        self.w_punit.value, "pressure")), 4)
+            try:
+                pa = _to_pa(parse_number(self.w_pressure.value, column="pressure"), old)
+                self.w_pressure.value = f"{float(from_si(pa, self.w_punit.value, 'pressure')):.6g}"
+            except VpkitError:
+                pass  # the box keeps what was typed; the readout says what is wrong
             self.w_pressure.description = f"at pressure [{self.w_punit.value}]"
             self._building = False
         self.refresh()
@@ -542,15 +544,33 @@ class RunPanel:
                          f"{D.signed(r['deviation_percent'], '%')} "
                          f"({D.signed(r['deviation_u'], 'u')})")
         self.w_readouts.value = "<br>".join(lines)
-        try:
-            P = _to_pa(self.w_pressure.value, self.choices["pressure_unit"])
-            Tb = a.boiling_point(P)
-            self.w_tb_other.value = f"→ {self._t(Tb.nominal_value, Tb.std_dev)}"
-        except (VpkitError, ValueError) as exc:
-            self.w_tb_other.value = f"<span style='color:#a00'>{html.escape(str(exc))}</span>"
+        self.w_tb_other.value = self._other_boiling_point(a)
         self._show_messages()
         if points:
             self._render_points()
+
+    def _other_boiling_point(self, a) -> str:
+        """The boiling point at the typed pressure, or why there is none (in the unit typed),
+        with the distance beyond the data when it is an extrapolation."""
+        unit = self.choices["pressure_unit"]
+        red = "<span style='color:#a00'>{}</span>"
+        try:
+            value = parse_number(self.w_pressure.value, column="pressure")
+            if value <= 0:
+                return red.format(html.escape(f"the pressure must be positive, got {value:g} "
+                                              f"{unit}"))
+            Tb = a.boiling_point(_to_pa(value, unit))
+        except (VpkitError, ValueError) as exc:
+            return red.format(html.escape(str(exc)))
+        out = f"→ {self._t(Tb.nominal_value, Tb.std_dev)}"
+        T = a.T[a.include]
+        lim = max(a.result.choices.limits["extrapolation_K"], float(T.max() - T.min()))
+        beyond = max(Tb.nominal_value - T.max(), T.min() - Tb.nominal_value)
+        if beyond > lim:
+            out += red.format(html.escape(
+                f" (an extrapolation {beyond:.0f} K beyond the points used, more than "
+                f"{lim:.0f} K: the model's curvature decides it, not the data)"))
+        return out
 
     def _render_points(self) -> None:
         a = self.analysis
