@@ -357,6 +357,13 @@ class LoadResult:
         return stack_to_table(self.stack)
 
 
+def _hidden(rel: Path) -> bool:
+    """Files a folder scan skips: hidden parts (.ipynb_checkpoints, .git) and notebook
+    checkpoint copies (*-checkpoint.csv)."""
+    return any(part.startswith(".") for part in rel.parts) or rel.name.endswith(
+        "-checkpoint.csv")
+
+
 def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadResult:
     """Read a folder of run files, a long table (CSV with ``run_id``), or one run file.
 
@@ -374,7 +381,8 @@ def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadR
     applied: dict[str, str] = {}
     failed, notes = [], []
     if source.is_dir() or _is_run_file(source):
-        files = sorted(source.glob(pattern)) if source.is_dir() else [source]
+        files = sorted(f for f in source.glob(pattern) if not _hidden(f.relative_to(source))
+                       ) if source.is_dir() else [source]
         for path in files:
             try:
                 run = read_run(path)

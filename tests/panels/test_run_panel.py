@@ -199,3 +199,23 @@ def test_boiling_point_box_refuses_slips_in_the_unit_typed(run_file):
     assert "→" in p.w_tb_other.value and "extrapolation" in p.w_tb_other.value
     p.w_pressure.value = "3"  # 3 kPa: inside the data's range
     assert "→" in p.w_tb_other.value and "extrapolation" not in p.w_tb_other.value
+
+
+def test_explorer_details(run_file, tmp_path, monkeypatch):
+    """Point numbers with file lines; re-including a point drops its stale reason (and
+    says so); the live legend names the reference's source; the title follows the
+    temperature unit; the default export folder is not beside the data."""
+    work = tmp_path / "notebooks"
+    work.mkdir()
+    monkeypatch.chdir(work)
+    p = explore(run_file, canvas="static")
+    cb, _, _ = p._point_rows[0]
+    assert f"(line {p.run.row_of(0)})" in cb.description
+    p.toggle(2, "bubble escaped")
+    p.toggle(2)
+    assert p.reasons[2] == "" and any("'bubble escaped' was removed" in m for m in p.messages)
+    legend = p.figure.legend.get_texts()[1].get_text()
+    assert legend == f"reference: {p.analysis.comparison.curve.label}"
+    p.set_choices(temperature_unit="degC")
+    assert "°C" in p.figure.title.get_text() and " K" not in p.figure.title.get_text()
+    assert p._default_export_folder() == work / "vpkit-report" / run_file.stem

@@ -45,3 +45,16 @@ def test_a_bad_cell_fails_only_its_run_and_names_the_row():
     assert stack.run_ids == ("a",)
     (rid, exc), = failures
     assert rid == "b" and exc.row == 11 and "'hot' is not a number" in str(exc)
+
+
+def test_folder_scan_skips_notebook_checkpoints(tmp_path):
+    """A notebook's .ipynb_checkpoints copies are not runs (common practice, no source)."""
+    from vpkit.runfile import write_run
+    from vpkit.table import read_runs
+
+    write_run(make_run("ethanol"), tmp_path / "a.csv")
+    (tmp_path / ".ipynb_checkpoints").mkdir()
+    write_run(make_run("water"), tmp_path / ".ipynb_checkpoints" / "a-checkpoint.csv")
+    write_run(make_run("water"), tmp_path / "b-checkpoint.csv")
+    loaded = read_runs(tmp_path, pattern="**/*.csv")
+    assert list(loaded.runs) == ["a"]

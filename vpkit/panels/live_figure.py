@@ -49,9 +49,10 @@ class LiveFigure:
         (self.res_out,) = axr.plot([], [], "s", mfc="none", mec="0.35", mew=1.2, ms=5,
                                    picker=True, pickradius=6)
         self.title = self.fig.text(0.12, 0.975, "", fontsize=10, va="top", ha="left")
-        ax.legend([self.fit_line, self.ref_line, self.pts_in, self.pts_out],
-                  ["fit ± 95 % band", "reference", "included", "excluded (click to toggle)"],
-                  loc="lower left", fontsize=8, frameon=False, numpoints=1)
+        self.legend = ax.legend([self.fit_line, self.ref_line, self.pts_in, self.pts_out],
+                                ["fit ± 95 % band", "reference", "included",
+                                 "excluded (click to toggle)"],
+                                loc="lower left", fontsize=8, frameon=False, numpoints=1)
         ax.set_ylabel(r"$\ln(p_\mathrm{vap}/\mathrm{Pa})$")
         axr.set_ylabel("residual")
         axr.set_xlabel(r"$1000\,\mathrm{K}/T$")
@@ -163,8 +164,11 @@ class LiveFigure:
             self.on_pick(int(idx[k]))
 
     # -- data -----------------------------------------------------------------
-    def update(self, a, reference: bool = True) -> None:
-        """Show analysis ``a``: changes artist data only, then asks for a redraw."""
+    def update(self, a, reference: bool = True, temperature_unit: str = "K") -> None:
+        """Show analysis ``a``: changes artist data only, then asks for a redraw.
+
+        The legend names the reference curve's source; the title gives T_m in
+        ``temperature_unit`` (the panel's display unit)."""
         f = a.fit
         inc = np.asarray(a.include, bool)
         x = 1000.0 / a.T
@@ -187,9 +191,13 @@ class LiveFigure:
         self.fit_line.set_data(xg, f.ln_p(Tg))
         if reference and a.comparison is not None:
             self.ref_line.set_data(xg, a.comparison.curve.ln_p(Tg))
-            self.ref_line.set_label(a.comparison.curve.label)
+            label = f"reference: {a.comparison.curve.label}"
         else:
             self.ref_line.set_data([], [])
+            label = "reference: none"
+        legend_text = self.legend.get_texts()[1]
+        relabel = legend_text.get_text() != label
+        legend_text.set_text(label)
         self.pts_in.set_data(x[fin], y[fin])
         self.pts_out.set_data(x[fout], y[fout])
         self.err.set_segments([[(x[i], y[i] - u[i]), (x[i], y[i] + u[i])]
@@ -202,9 +210,9 @@ class LiveFigure:
         dH = f.enthalpy
         self.title.set_text(f"{a.si.liquid}: ΔH_vap = "
                             f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} "
-                            f"at {D.number(f.T_m, 'K')}")
+                            f"at T_m = {D.quantity(f.T_m, None, temperature_unit, 'temperature')}")
         grown = self._keep_limits(xg, np.r_[y[ok], lo, hi], res[ok], u[ok])
-        self.last_redraw = self.redraw(full=grown)
+        self.last_redraw = self.redraw(full=grown or relabel)
 
     def _keep_limits(self, xg, ys, res, u) -> bool:
         """Fixed limits that only grow: toggling never re-lays out the axes.

@@ -159,6 +159,10 @@ class RunPanel:
             self.reasons[i] = reason or self.reasons[i] or "excluded in the explorer"
         elif reason is not None:
             self.reasons[i] = reason
+        elif self.reasons[i]:  # an included point keeps no reason for exclusion
+            self.messages.append(f"point {i} included again; its reason "
+                                 f"{self.reasons[i]!r} was removed")
+            self.reasons[i] = ""
         self._sync_point_widgets(i)
         self.refresh()
 
@@ -201,7 +205,7 @@ class RunPanel:
         self.last_error = None
         self._render_readouts(points=False)
         t2 = time.perf_counter()
-        self.figure.update(a)
+        self.figure.update(a, temperature_unit=self.choices["temperature_unit"])
         if self.figure.kind == "agg":
             self._image.value = self.figure.png()
         t3 = time.perf_counter()
@@ -353,9 +357,9 @@ class RunPanel:
                               self.w_points, new, export, safety])
 
     def _default_export_folder(self) -> Path:
-        if self.path is not None:
-            return self.path.with_name(self.path.stem + "-report")
-        return Path("vpkit-report")
+        """vpkit-report/<run> under the working folder: never inside the data folder."""
+        stem = self.path.stem if self.path is not None else "run"
+        return Path.cwd() / "vpkit-report" / stem
 
     def _ipython_display_(self):
         from IPython.display import display
@@ -395,13 +399,15 @@ class RunPanel:
     def _build_point_rows(self) -> None:
         self._point_rows: list[tuple[W.Checkbox, W.Text, W.HTML]] = []
         rows = []
-        head = W.HTML("<b>#</b> &nbsp; t, reading, V, p_vap ± u, residual, ΔH shift if left "
-                      "out [kJ/mol]")
+        head = W.HTML("<b># (file line)</b> &nbsp; t, reading, V, p_vap ± u, residual, ΔH shift "
+                      "if left out [kJ/mol]")
         for i in range(self.run.n_points):
-            cb = W.Checkbox(value=self.include[i], description=str(i), indent=False,
-                            layout=W.Layout(width="60px"))
+            line = self.run.row_of(i)
+            cb = W.Checkbox(value=self.include[i], indent=False,
+                            description=f"{i}" + (f" (line {line})" if line else ""),
+                            layout=W.Layout(width="110px"))
             tx = W.Text(value=self.reasons[i], placeholder="reason if excluded",
-                        layout=W.Layout(width="220px"))
+                        tooltip=self.reasons[i] or None, layout=W.Layout(width="300px"))
             lab = W.HTML(layout=W.Layout(width="520px"))
             cb.observe(self._on_include_box(i), names="value")
             tx.observe(self._on_reason_box(i), names="value")
