@@ -129,7 +129,8 @@ def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
         page.wait_for_function("() => document.body.innerText.includes('kJ/mol')",
                                timeout=60_000)
         box = page.locator(".widget-checkbox").filter(
-            has=page.locator(f"span[title='{point}'], span:text-is('{point}')")
+            has=page.locator(f"span[title='{point}'], span[title^='{point} (line'], "
+                             f"span:text-is('{point}')")
         ).locator("input[type=checkbox]").first
         box.wait_for()
         page.wait_for_timeout(1500)  # let the first frames arrive

@@ -70,11 +70,14 @@ class SessionState:
     reasons: tuple[str, ...]
     choices: Mapping[str, Any] = field(default_factory=dict)
     saved_at: str = ""
+    #: (bath temperature, reading) of each point as typed, to re-apply exclusions after
+    #: the run file was edited (empty in sessions written before it was kept).
+    points: tuple[tuple[float, float], ...] = ()
 
     @classmethod
     def from_run(cls, run: Run, choices: Mapping[str, Any] | None = None) -> SessionState:
         return cls(run_fingerprint(run), tuple(run.include), tuple(run.reason),
-                   dict(choices or {}))
+                   dict(choices or {}), points=points_of(run))
 
     def apply(self, run: Run) -> Run:
         """The run with this session's include flags and reasons (a copy)."""
@@ -89,15 +92,45 @@ class SessionState:
             "schema": SCHEMA, "kind": KIND, "run_sha256": self.run_sha256,
             "n_points": len(self.include), "include": list(self.include),
             "reasons": list(self.reasons), "choices": dict(self.choices),
-            "saved_at": self.saved_at,
+            "saved_at": self.saved_at, "points": [list(p) for p in self.points],
         }, indent=1, ensure_ascii=False)
+
+    def reapply(self, run: Run) -> tuple[Run, list[int], list[int]]:
+        """Re-apply the exclusions and reasons to an edited run, point by point.
+
+        A saved point with an exclusion or a reason is matched to a point of ``run``
+        with the same bath temperature and reading as typed (each used once). Returns
+        the run with those applied, the indices (in ``run``) that were matched, and
+        the saved indices that found no unchanged reading.
+        """
+        include, reasons = list(run.include), list(run.reason)
+        free = {}
+        for i, key in enumerate(points_of(run)):
+            free.setdefault(key, []).append(i)
+        applied, lost = [], []
+        for j, key in enumerate(self.points):
+            if self.include[j] and not self.reasons[j]:
+                continue
+            if free.get(key):
+                i = free[key].pop(0)
+                include[i], reasons[i] = self.include[j], self.reasons[j]
+                applied.append(i)
+            else:
+                lost.append(j)
+        return run.with_include(include, reasons), applied, lost
+
+
+def points_of(run: Run) -> tuple[tuple[float, float], ...]:
+    """(bath temperature, reading) of every point, as typed."""
+    return tuple((float(t), float(r)) for t, r in zip(run.bath_temperature, run.reading))
 
 
 def save_session(state: SessionState, path) -> Path:
     """Write ``state`` to ``path`` atomically; returns the path."""
     path = Path(path)
     stamped = SessionState(state.run_sha256, state.include, state.reasons, state.choices,
-                           _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
+                           _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+                           state.points)
     text = stamped.to_json()
     fd, tmp = tempfile.mkstemp(prefix=path.name + ".", suffix=".tmp", dir=path.parent)
     try:
@@ -157,8 +190,15 @@ def load_session(path, run: Run | None = None) -> SessionState:
     sha = data.get("run_sha256")
     if not isinstance(sha, str):
         raise SessionError("no run fingerprint", file=src, column="run_sha256")
+    points = data.get("points", [])
+    if not (isinstance(points, list) and all(
+            isinstance(p, list) and len(p) == 2 and all(isinstance(v, (int, float)) for v in p)
+            for p in points) and len(points) in (0, n)):
+        raise SessionError("the saved points are malformed", file=src, column="points",
+                           hint="delete the entry or the file")
     state = SessionState(sha, tuple(include), tuple(reasons), choices,
-                         str(data.get("saved_at", "")))
+                         str(data.get("saved_at", "")),
+                         tuple((float(a), float(b)) for a, b in points))
     if run is not None:
         if run.n_points != n or run_fingerprint(run) != sha:
             raise SessionError("this session belongs to another run (or the run file was "

@@ -219,3 +219,22 @@ def test_explorer_details(run_file, tmp_path, monkeypatch):
     p.set_choices(temperature_unit="degC")
     assert "°C" in p.figure.title.get_text() and " K" not in p.figure.title.get_text()
     assert p._default_export_folder() == work / "vpkit-report" / run_file.stem
+
+
+def test_editing_the_run_file_keeps_matching_exclusions(run_file):
+    """A reading corrected in the file: the old session is kept aside, and the exclusions of
+    points whose readings are unchanged are re-applied (and said so)."""
+    p = explore(run_file, canvas="static")
+    p.toggle(1, "thermometer not settled")
+    p.toggle(6, "bubble escaped")
+    text = run_file.read_text().splitlines()
+    i6 = p.run.row_of(6) - 1  # 1-based file line
+    cells = text[i6].split(",")
+    cells[1] = f"{float(cells[1]) + 0.01:g}"  # point 6's reading corrected
+    text[i6] = ",".join(cells)
+    run_file.write_text("\n".join(text) + "\n")
+    q = explore(run_file, canvas="static")
+    assert q.include[1] is False and q.reasons[1] == "thermometer not settled"
+    assert q.include[6] is True
+    assert any("re-applied" in m and "1 saved point(s) (6)" in m for m in q.messages)
+    assert list(run_file.parent.glob("*.refused-*"))

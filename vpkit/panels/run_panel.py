@@ -31,6 +31,7 @@ from ..session import (
     SessionError,
     SessionState,
     load_session,
+    points_of,
     run_fingerprint,
     save_session,
     session_path,
@@ -128,8 +129,23 @@ class RunPanel:
             state = load_session(sf, self.run)
         except SessionError as exc:
             # keep the refused file for the user, never overwrite it
+            try:
+                old = load_session(sf)  # readable, but for an edited run file?
+            except SessionError:
+                old = None
             aside = sf.with_name(sf.name + f".refused-{int(time.time())}")
             sf.rename(aside)
+            if old is not None and old.points:
+                run, applied, lost = old.reapply(self.run)
+                self.include, self.reasons = list(run.include), list(run.reason)
+                self.choices.update(old.choices)
+                self.messages.append(
+                    f"the run file changed since the session was saved (old session kept as "
+                    f"{aside.name}): re-applied the exclusions and reasons of "
+                    f"{len(applied)} point(s) whose readings are unchanged"
+                    + (f"; {len(lost)} saved point(s) ({', '.join(map(str, lost))}) no longer "
+                       "match a reading and were not applied" if lost else ""))
+                return
             self.messages.append(f"{exc} — kept as {aside.name}; starting from the run file")
             return
         self.include = list(state.include)
@@ -147,7 +163,8 @@ class RunPanel:
         if not self.autosave:
             return
         state = SessionState(run_fingerprint(self.run), tuple(self.include),
-                             tuple(self.reasons), dict(self.choices))
+                             tuple(self.reasons), dict(self.choices),
+                             points=points_of(self.run))
         save_session(state, self.session_file)
 
     # -- actions (also the programmatic interface) ------------------------------
