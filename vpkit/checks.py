@@ -195,11 +195,30 @@ def _point_checks(res, out) -> None:
         out[r].append(Finding(flag, ImpossiblePointWarning if impossible else
                               SuspectPointWarning,
                               f"point {i} ({_t(T[r, i])}), {state}: " + "; ".join(texts)))
+    _fahrenheit_slips(res, out)
     suspect = np.abs(res.robust_z) > res.choices.limits["suspect_u"]
     for r, i in zip(*np.nonzero(suspect & res.ok[:, None])):
         out[r].append(Finding("suspect point", SuspectPointWarning, (
             f"point {i} ({_t(T[r, i])}) lies {abs(res.robust_z[r, i]):.1f} of its own standard "
             "uncertainties off a robust line through the other points: suspect (not excluded)")))
+
+
+def _fahrenheit_slips(res, out) -> None:
+    """A single bath reading written in degF among degC ones (common practice, no source:
+    it stands more than 20 K above every other point, and read as degF it falls inside
+    the others' range, 5 K margin)."""
+    t = np.where(res.stack.mask, res.stack.T - T_ZERO_C, np.nan)
+    n = res.stack.mask.sum(axis=1)
+    for r in np.flatnonzero(res.ok & (n >= 4)):
+        row = t[r, :n[r]]
+        i = int(np.nanargmax(row))
+        others = np.delete(row, i)
+        as_c = (row[i] - 32.0) * 5.0 / 9.0
+        if row[i] > others.max() + 20.0 and others.min() - 5.0 <= as_c <= others.max() + 5.0:
+            out[r].append(Finding("degF?", SuspectPointWarning, (
+                f"point {i} ({row[i]:.2f} degC) stands {row[i] - others.max():.0f} K above the "
+                f"next hottest point; read as degF it is {as_c:.1f} degC, inside the run's "
+                "range: was it read on a Fahrenheit scale? (correct it in the run file)")))
 
 
 def _reference_checks(res, add, out, span) -> None:

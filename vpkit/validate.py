@@ -110,6 +110,9 @@ def check(s: RunStack, c: Columns) -> list[tuple[int, InputError]]:
     """Physical checks of every run at once; the first failed check of each run."""
     ch = _Checker(s)
     with np.errstate(invalid="ignore"):
+        for key, name in (("T", "temperature_uncertainty"), ("reading", "reading_uncertainty")):
+            ch.fail(c.given_u[key] < 0, lambda r, n=name: BadValueError(
+                f"{n} is negative", **s.place(r, n), hint="give a standard uncertainty >= 0"))
         _reading_checks(ch, s, c)
         _check_temperature_unit(s, c, ch.out)
         _run_checks(ch, s)

@@ -53,6 +53,11 @@ def sub(old, new, count=1):
     return BASE.replace(old, new, count)
 
 
+def add_entry(line):
+    """BASE with one more [run] entry on line 12 (the readings move down by one)."""
+    return sub("boiling_point,78.3,degC,\n", "boiling_point,78.3,degC,\n" + line + "\n")
+
+
 def load(text):
     return vpkit.parse_run(text, source="bench4.csv")
 
@@ -119,6 +124,41 @@ FILE_CASES = [
     ("no weighing and no offset",
      sub("mass_before_air,30.0000,g,0.001\nmass_after_air,28.4230,g,0.001\n", ""),
      RunFileError, None, "scale_offset"),
+    # the optional quantities (line 12, inserted after the boiling point)
+    ("humidity above 100 %", add_entry("injected_air_humidity,150,%,"), ImpossibleDataError,
+     12, "injected_air_humidity"),
+    ("negative humidity", add_entry("injected_air_humidity,-5,%,"), ImpossibleDataError, 12,
+     "injected_air_humidity"),
+    ("humidity in mL", add_entry("injected_air_humidity,50,mL,"), UnitError, 12, "unit"),
+    ("tube bore of 5 m", add_entry("tube_bore,5,m,"), ImpossibleDataError, 12, "tube_bore"),
+    ("tube bore without room reading",
+     sub("room_reading,1.85,mL,\n", "").replace("boiling_point,78.3,degC,\n",
+                                                   "boiling_point,78.3,degC,\n"
+                                                   "scale_offset,0.15,mL,\ntube_bore,5,mm,\n"),
+     RunFileError, 12, "tube_bore"),
+    ("negative reading resolution", add_entry("reading_resolution,-0.05,mL,"),
+     ImpossibleDataError, 12, "reading_resolution"),
+    ("reading resolution as text", add_entry("reading_resolution,fine,mL,"), BadValueError, 12,
+     "value"),
+    ("tube capacity zero", add_entry("tube_capacity,0,mL,"), ImpossibleDataError, 12,
+     "tube_capacity"),
+    ("room depth of 20 m", add_entry("room_depth,20,m,"), ImpossibleDataError, 12,
+     "room_depth"),
+    ("room depth in degC", add_entry("room_depth,5,degC,"), UnitError, 12, "unit"),
+    ("negative thermometer uncertainty", add_entry("temperature_uncertainty,-0.2,degC,"),
+     BadValueError, 12, "temperature_uncertainty"),
+    ("negative reading uncertainty", add_entry("reading_uncertainty,-0.005,mL,"),
+     BadValueError, 12, "reading_uncertainty"),
+    ("readings in litres", sub("reading [mL]", "reading [L]"), ImpossibleDataError, 14,
+     "reading"),
+    ("bad graduated_from (middle)", add_entry("graduated_from,middle,,"), BadValueError, 12,
+     "graduated_from"),
+    ("bath far above any bath", sub("50.0,2.965", "750.0,2.965"), ImpossibleDataError, 19,
+     "bath_temperature"),
+    ("room temperature of 600 K", sub("room_temperature,21.0,degC", "room_temperature,600,K"),
+     ImpossibleDataError, 5, "room_temperature"),
+    ("barometer of 30 MPa", sub("100.2,kPa", "30,MPa"), ImpossibleDataError, 4,
+     "barometric_pressure"),
 ]
 
 
@@ -154,6 +194,21 @@ ANALYSIS_CASES = [
      {"air_from": "injected"}, InputError, "injected_air_volume"),
     ("density from reference, unknown liquid", sub("liquid,ethanol", "liquid,unobtainium"),
      {"reference": None}, InputError, "liquid_density"),
+    ("PPDS asked for a liquid without one", BASE, {"reference": "ppds"}, BadValueError,
+     "no bundled ppds equation for 'ethanol'"),
+    ("IAPWS-95 asked for ethanol", BASE, {"reference": "iapws95"}, BadValueError,
+     "IAPWS-95 describes water"),
+    ("water layer under water", sub("liquid,ethanol", "liquid,water"), {"water_layer": True},
+     BadValueError, "liquid is water itself"),
+    ("unknown threshold", BASE, {"thresholds": {"max_amplificaton": 10}}, BadValueError,
+     "unknown threshold"),
+    ("unknown weighting", BASE, {"weighting": "heavy"}, BadValueError, "weighting must be"),
+    ("unknown p_vap choice", BASE, {"vapor_at_air_reference": "guess"}, BadValueError,
+     "vapor_at_air_reference must be"),
+    ("cold reference out of range", BASE, {"air_from": "cold", "cold_index": 9},
+     BadValueError, "cold_index 9 is not a point"),
+    ("non-finite what-if depth", BASE, {"bubble_depth": float("nan")}, BadValueError,
+     "finite length"),
 ]
 
 
@@ -176,6 +231,44 @@ WARN_CASES = [
     ("bath above measured boiling point", sub("boiling_point,78.3", "boiling_point,48.0"),
      "above the measured boiling point", 5),
 ]
+
+
+# computable but suspect, with the choices that expose it: (id, text, options, flag, fragment)
+WARN_OPTION_CASES = [
+    ("room temperature typed in degF as degC",
+     sub("room_temperature,21.0,degC", "room_temperature,70.3,degC"), {}, "room temperature?",
+     "room temperature 70.3 degC is outside 5-40 degC"),
+    ("barometer in mbar meant hPa*10", sub("100.2,kPa", "100.8,mbar"), {}, "barometer?",
+     "barometric pressure 10.08 kPa is outside 50-110 kPa"),
+    ("a bath reading in degF", sub("40.0,2.389", "104.0,2.389"), {}, "degF?",
+     "read as degF it is 40.0 degC"),
+    ("a bath below the melting point", sub("25.0,1.993", "-120.0,1.993"), {},
+     "below melting point", "below the melting point of ethanol"),
+    ("bubble beyond the tube", add_entry("tube_capacity,2.5,mL,"), {}, "beyond tube capacity",
+     "exceed the tube's capacity of 2.5 mL"),
+    ("air reference outside the equation's range",
+     sub("room_temperature,21.0,degC", "room_temperature,2.0,degC"),
+     {"reference": "antoine", "vapor_at_air_reference": "reference"},
+     "air reference outside range", "outside its range 3.35 degC"),
+    ("amplified reading error", BASE, {"thresholds": {"max_amplification": 5}},
+     "amplified error", "times the volume reading's"),
+    ("close to boiling", BASE, {"thresholds": {"max_vapor_fraction": 0.2}}, "near boiling",
+     "close to boiling"),
+    ("extrapolated boiling point", BASE, {}, "extrapolated T_b",
+     "beyond the highest point: an extrapolation"),
+    ("implausible enthalpy", sub("room_temperature,21.0,degC", "room_temperature,70.3,degC"),
+     {}, "implausible ΔH_vap", "% from the reference"),
+]
+
+
+@pytest.mark.parametrize("case", WARN_OPTION_CASES, ids=[c[0] for c in WARN_OPTION_CASES])
+def test_suspect_with_its_number(case):
+    """Each finding names the value that triggered it, and it is a flag in the summary."""
+    _, text, options, flag, fragment = case
+    a = vpkit.analyze(load(text), warn=False, **options)
+    assert any(fragment in w for w in a.warnings), a.warnings
+    assert flag in a.results()["flags"][0].split(", ")
+    assert len(a.T) == 6  # nothing dropped
 
 
 @pytest.mark.parametrize("case", WARN_CASES, ids=[c[0] for c in WARN_CASES])
@@ -226,7 +319,9 @@ def test_no_code_from_data():
 
 
 def test_catalogue_size():
-    assert len(FILE_CASES) + len(ANALYSIS_CASES) + len(WARN_CASES) + 3 + 2 >= 30
+    """The catalogue holds at least 100 cases (issue "ship it")."""
+    cases = (FILE_CASES + ANALYSIS_CASES + WARN_CASES + WARN_OPTION_CASES + SLIP_CASES)
+    assert len(cases) + 3 + 7 + 4 >= 100  # + session kinds, spellings, edge values
 
 
 def test_warnings_can_be_silenced():
