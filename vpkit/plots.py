@@ -14,10 +14,47 @@ MM_PER_INCH = 25.4
 COLUMN_WIDTHS = {"single": 85.0, "double": 175.0}
 
 
+#: Legend positions tried in turn ("best": matplotlib's least-overlap search); the first
+#: that covers no data is used, else the legend goes below the axes (common practice, no
+#: source).
+LEGEND_PLACES = ("best",)
+
+
 def _style(width_mm: float) -> dict:
-    base = 7.0 if width_mm < 120 else 8.5
+    """Sizes for a figure width: no text below 7 pt at a single column (common practice for
+    journal figures, no source)."""
+    base = 8.0 if width_mm < 120 else 9.0
     return {"font": base, "small": base - 1, "lw": 0.8 if width_mm < 120 else 1.0,
             "ms": 3.5 if width_mm < 120 else 4.5}
+
+
+def _place_legend(fig, ax, data_xy: np.ndarray, fontsize: float):
+    """A legend that covers none of ``data_xy`` (points in data coordinates, markers and
+    sampled lines): the first free place of :data:`LEGEND_PLACES`, else below the axes.
+    The check uses the drawn legend's own box, so it holds for the rendered figure."""
+    if not hasattr(fig.canvas, "get_renderer"):
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+        FigureCanvasAgg(fig)  # a renderer to measure text with (no window, no pyplot)
+    fig.draw_without_rendering()
+    renderer = fig.canvas.get_renderer()
+    pix = ax.transData.transform(data_xy[np.isfinite(data_xy).all(axis=1)])
+    pad = fontsize * fig.dpi / 72.0 * 0.6  # a marker's reach, in pixels
+    for loc in LEGEND_PLACES:
+        leg = ax.legend(fontsize=fontsize, frameon=False, loc=loc, numpoints=1)
+        fig.draw_without_rendering()
+        box = leg.get_window_extent(renderer)
+        inside = ((pix[:, 0] > box.x0 - pad) & (pix[:, 0] < box.x1 + pad)
+                  & (pix[:, 1] > box.y0 - pad) & (pix[:, 1] < box.y1 + pad))
+        if not inside.any():
+            return leg
+        leg.remove()
+    handles, labels = ax.get_legend_handles_labels()
+    ncol = 1 if fig.get_figwidth() * MM_PER_INCH < 120 else 2
+    rows = -(-len(labels) // ncol)
+    fig.set_figheight(fig.get_figheight() + rows * fontsize * 1.5 / 72.0)  # room below
+    return fig.legend(handles, labels, fontsize=fontsize, frameon=False, numpoints=1,
+                      loc="outside lower center", ncol=ncol)
 
 
 def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
@@ -55,7 +92,8 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
     Tg = np.linspace(max(lo - pad, 1.0), hi + pad, 200)
     band_lo, band_hi = f.ln_p_band(Tg)
     ax.fill_between(1000 / Tg, band_lo, band_hi, color="0.80", lw=0, label="95 % band of fit")
-    ax.plot(1000 / Tg, f.ln_p(Tg), color="k", lw=st["lw"], label=f"fit: {f.model.label}")
+    ax.plot(1000 / Tg, f.ln_p(Tg), color="k", lw=st["lw"],
+            label=f"fit ({f.model.label.split(' (')[0]})")
     if reference and a.comparison is not None:
         c = a.comparison.curve
         ax.plot(1000 / Tg, c.ln_p(Tg), color="tab:blue", lw=st["lw"], ls="--",
@@ -66,22 +104,28 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
     exc = ~inc & ok
     if exc.any():
         ax.plot(x[exc], y[exc], "s", ms=st["ms"], mfc="none", mec="0.3", mew=st["lw"],
-                label="excluded (reasons in table)")
-        for i in np.flatnonzero(exc):
-            ax.annotate(str(i), (x[i], y[i]), xytext=(3, 3), textcoords="offset points",
-                        fontsize=st["small"], color="0.3")
+                label="excluded (point numbers)", clip_on=False)
+        mid = 0.5 * (np.nanmin(x[ok]) + np.nanmax(x[ok]))
+        for i in np.flatnonzero(exc):  # inwards, away from the frame and from the fit line
+            right = x[i] < mid
+            below = f.residuals[i] < 0
+            ax.annotate(str(i), (x[i], y[i]), xytext=(4 if right else -4, -4 if below else 4),
+                        textcoords="offset points", ha="left" if right else "right",
+                        va="top" if below else "bottom", fontsize=st["small"], color="0.3")
     ax.set_ylabel(r"$\ln(p_\mathrm{vap}/\mathrm{Pa})$", fontsize=st["font"])
     dH = f.enthalpy
-    ax.set_title(f"{a.si.liquid}: ΔH_vap = "
+    sep = "\n" if width_mm < 120 else ": "  # two lines at a single column, so it fits
+    ax.set_title(f"{a.si.liquid}{sep}ΔH_vap = "
                  f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} at "
-                 f"{D.number(f.T_m, 'K', 3)}", fontsize=st["font"])
-    ax.legend(fontsize=st["small"], frameon=False, loc="lower left", numpoints=1)
+                 f"T_m = {D.number(f.T_m, 'K', 3)}", fontsize=st["font"])
     res = f.residuals
     axr.axhline(0, color="k", lw=st["lw"] * 0.7)
     axr.errorbar(x[inc & ok], res[inc & ok], yerr=yerr[inc & ok], fmt="o", ms=st["ms"],
                  color="tab:red", lw=st["lw"], capsize=0)
     if exc.any():
-        axr.plot(x[exc], res[exc], "s", ms=st["ms"], mfc="none", mec="0.3", mew=st["lw"])
+        axr.plot(x[exc], res[exc], "s", ms=st["ms"], mfc="none", mec="0.3", mew=st["lw"],
+                 clip_on=False)
+    axr.margins(y=0.2)
     axr.set_ylabel(r"$\Delta \ln p$", fontsize=st["font"])
     axr.set_xlabel(r"$1000\,\mathrm{K}/T$", fontsize=st["font"])
     top = ax.secondary_xaxis("top", functions=(lambda v: 1000.0 / np.asarray(v) - T_ZERO_C,
@@ -93,6 +137,14 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
     for axis in (ax, axr):
         for s in axis.spines.values():
             s.set_linewidth(st["lw"] * 0.8)
+    xs = 1000 / Tg
+    lines = [np.c_[xs, f.ln_p(Tg)], np.c_[xs, band_lo], np.c_[xs, band_hi]]
+    if reference and a.comparison is not None:
+        lines.append(np.c_[xs, a.comparison.curve.ln_p(Tg)])
+    err_lo, err_hi = y - yerr, y + yerr
+    marks = [np.c_[x[ok], y[ok]], np.c_[x[inc & ok], err_lo[inc & ok]],
+             np.c_[x[inc & ok], err_hi[inc & ok]]]
+    _place_legend(fig, ax, np.concatenate(lines + marks), st["small"])
     return fig
 
 
