@@ -170,3 +170,44 @@ def measure_click_to_repaint(out_dir: Path) -> str:
     return (f"click -> readout median {statistics.median(r['readout_ms']):.0f} ms, "
             f"click -> repainted canvas median {statistics.median(r['repaint_ms']):.0f} ms "
             f"(aim < 150 ms) over {len(r['repaint_ms'])} clicks; screenshot {r['screenshot']}")
+
+
+_LAYOUT = """() => {
+    const cs = Array.from(document.querySelectorAll('canvas'))
+        .map(c => c.getBoundingClientRect()).filter(r => r.width > 50 && r.height > 50);
+    const panel = document.querySelector('.widget-vbox');
+    const p = panel ? panel.getBoundingClientRect() : null;
+    return {canvas: cs.map(r => [r.left, r.top, r.right, r.bottom]),
+            panel: p ? [p.left, p.top, p.right, p.bottom] : null,
+            inner: [window.innerWidth, window.innerHeight],
+            scroll_width: document.documentElement.scrollWidth};
+}"""
+
+
+def layout_at(out_dir: Path, viewports) -> dict:
+    """For each (width, height) viewport: where the explorer's figure canvases and the
+    panel sit on the served quick-start page (CSS pixels), and a screenshot."""
+    from playwright.sync_api import sync_playwright
+
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    found = {}
+    with VoilaServer(out_dir / "served") as server, sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        for w, h in viewports:
+            page = browser.new_page(viewport={"width": w, "height": h})
+            page.set_default_timeout(60_000)
+            page.goto(server.url, timeout=60_000)
+            page.wait_for_function("() => document.body.innerText.includes('kJ/mol')",
+                                   timeout=60_000)
+            page.wait_for_function(
+                "() => Array.from(document.querySelectorAll('canvas'))"
+                ".some(c => c.getBoundingClientRect().width > 50)", timeout=60_000)
+            page.wait_for_timeout(1000)
+            found[(w, h)] = page.evaluate(_LAYOUT)
+            shot = out_dir / f"explorer_{w}x{h}.png"
+            page.screenshot(path=str(shot), full_page=True)
+            found[(w, h)]["screenshot"] = shot
+            page.close()
+        browser.close()
+    return found

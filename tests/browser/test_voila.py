@@ -37,3 +37,20 @@ def test_toggle_in_browser_shows_core_enthalpy(tmp_path):
     shutil.copy(r["screenshot"], keep / r["screenshot"].name)
     print(f"click -> readout {r['readout_ms']} ms; click -> repaint {r['repaint_ms']} ms; "
           f"screenshot {keep / r['screenshot'].name}")
+
+
+@pytest.mark.skipif(REASON is not None, reason=f"real-browser test skipped: {REASON}")
+def test_explorer_fits_laptop_and_desktop_screens(tmp_path):
+    """1920x1080, 1366x768, and 1066x768 (a 1366-pixel laptop with a notebook's 300-pixel
+    file browser open): the whole figure canvas lies inside the panel and the window, with
+    no sideways scrolling (common practice, no source)."""
+    from browser import layout_at
+
+    found = layout_at(tmp_path, [(1920, 1080), (1366, 768), (1066, 768)])
+    for (w, _), got in found.items():
+        assert got["canvas"], f"no figure canvas at {w} px"
+        pl, _, pr, _ = got["panel"]
+        for left, _, right, _ in got["canvas"]:
+            assert left >= pl - 1 and right <= pr + 1, (w, got)
+            assert left >= 0 and right <= w, (w, got)
+        assert got["scroll_width"] <= w + 1, (w, got["scroll_width"])

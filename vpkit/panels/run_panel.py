@@ -353,16 +353,20 @@ class RunPanel:
             self.w_figure = self.figure.canvas
             self._image = None
         else:
-            self._image = W.Image(format="png", layout=W.Layout(width="620px"))
+            self._image = W.Image(format="png", layout=W.Layout(width="620px", max_width="100%"))
             self.w_figure = self._image
         controls = W.VBox([W.HTML("<b>Choices</b>"), self.w_model, self.w_air, self.w_vapor,
                            self.w_head, self.w_depth, self.w_gas, self.w_layer, self.w_ref,
                            self.w_punit,
                            self.w_tunit, W.HTML("<b>Boiling point at another pressure</b>"),
                            self.w_pressure, self.w_tb_other],
-                          layout=W.Layout(flex="0 0 auto", min_width="450px"))
+                          layout=W.Layout(flex="0 1 450px", min_width="0", max_width="100%"))
+        # side by side where there is room, the figure below the choices where there is not
+        # (a laptop screen with the notebook's file browser open): nothing is cut off
         top = W.HBox([controls, W.VBox([self.w_figure],
-                                       layout=W.Layout(flex="1 1 auto", min_width="420px"))])
+                                       layout=W.Layout(flex="1 1 auto", min_width="0",
+                                                       max_width="100%", overflow="auto"))],
+                     layout=W.Layout(flex_flow="row wrap", width="100%"))
         export = W.VBox([W.HTML("<b>Export for a report</b>"), self.w_folder, self.w_width,
                          self.w_dpi, self.w_export, self.w_export_msg])
         safety = W.HTML(f"<small>{html.escape(SAFETY_NOTE)}</small>")
