@@ -211,3 +211,86 @@ def layout_at(out_dir: Path, viewports) -> dict:
             page.close()
         browser.close()
     return found
+
+
+class LabServer(VoilaServer):
+    """Serve the same copy in JupyterLab (no token, 127.0.0.1 only) instead of Voila."""
+
+    def __enter__(self) -> LabServer:
+        w = self.workdir
+        w.mkdir(parents=True, exist_ok=True)
+        shutil.copytree(ROOT / "data", w / "data", dirs_exist_ok=True, ignore=CLEAN)
+        (w / "notebooks").mkdir(exist_ok=True)
+        shutil.copy(ROOT / "notebooks" / self.notebook, w / "notebooks" / self.notebook)
+        env = dict(os.environ)
+        for var, sub in (("HOME", "home"), ("IPYTHONDIR", "ipython"), ("MPLCONFIGDIR", "mpl"),
+                         ("JUPYTER_CONFIG_DIR", "jcfg"), ("JUPYTER_DATA_DIR", "jdata"),
+                         ("JUPYTER_RUNTIME_DIR", "jrun")):
+            env[var] = str(w / sub)
+        self.log = open(w / "lab.log", "w")  # noqa: SIM115
+        self.proc = subprocess.Popen(
+            [sys.executable, "-m", "jupyterlab", "--no-browser", f"--port={self.port}",
+             "--ServerApp.ip=127.0.0.1", "--ServerApp.port_retries=0",
+             "--IdentityProvider.token=", "--ServerApp.password=", "--allow-root",
+             "--LabApp.news_url=", "--LabApp.check_for_updates_class="
+             "jupyterlab.NeverCheckForUpdate", f"--ServerApp.root_dir={w}"],
+            cwd=w, env=env, stdout=self.log, stderr=subprocess.STDOUT)
+        deadline = time.time() + 120
+        while time.time() < deadline:
+            if self.proc.poll() is not None:
+                raise RuntimeError(f"jupyterlab exited early; see {w / 'lab.log'}")
+            try:
+                with urllib.request.urlopen(f"{self.url}api/status", timeout=2):
+                    return self
+            except OSError:
+                time.sleep(0.5)
+        raise RuntimeError("jupyterlab did not answer within 120 s")
+
+
+_LAB_LAYOUT = """() => {
+    const panel = document.querySelector('.jp-NotebookPanel:not(.lm-mod-hidden)');
+    const p = panel ? panel.getBoundingClientRect() : null;
+    const cs = Array.from(panel ? panel.querySelectorAll('canvas') : [])
+        .map(c => c.getBoundingClientRect()).filter(r => r.width > 50 && r.height > 50);
+    const side = document.querySelector('#jp-left-stack');
+    const s = side ? side.getBoundingClientRect() : null;
+    return {canvas: cs.map(r => [r.left, r.top, r.right, r.bottom]),
+            panel: p ? [p.left, p.top, p.right, p.bottom] : null,
+            sidebar_width: s ? s.width : 0,
+            inner: [window.innerWidth, window.innerHeight]};
+}"""
+
+
+def lab_layout_at(out_dir: Path, viewports) -> dict:
+    """The quick-start notebook run in JupyterLab (file browser open) at each viewport:
+    where the explorer's figure canvases and the notebook panel sit, and a screenshot."""
+    from playwright.sync_api import sync_playwright
+
+    out_dir = Path(out_dir)
+    found = {}
+    with LabServer(out_dir / "lab") as server, sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        for w, h in viewports:
+            page = browser.new_page(viewport={"width": w, "height": h})
+            page.set_default_timeout(120_000)
+            page.goto(f"{server.url}lab/tree/notebooks/quick_start.ipynb", timeout=120_000)
+            page.wait_for_selector(".jp-Notebook", timeout=120_000)
+            page.wait_for_selector(".jp-Notebook-ExecutionIndicator[data-status='idle'], "
+                                   ".jp-KernelStatus", timeout=120_000)
+            page.wait_for_timeout(2000)  # the kernel settles
+            page.locator(".lm-MenuBar-itemLabel", has_text="Run").first.click()
+            page.locator(".lm-Menu-itemLabel", has_text="Run All Cells").first.click()
+            page.wait_for_function(
+                "() => Array.from(document.querySelectorAll('.jp-NotebookPanel canvas'))"
+                ".some(c => c.getBoundingClientRect().width > 50)", timeout=120_000)
+            page.wait_for_timeout(1500)
+            panel_canvas = page.locator(".jp-NotebookPanel canvas").first
+            panel_canvas.scroll_into_view_if_needed()
+            page.wait_for_timeout(500)
+            found[(w, h)] = page.evaluate(_LAB_LAYOUT)
+            shot = out_dir / f"lab_{w}x{h}.png"
+            page.screenshot(path=str(shot))
+            found[(w, h)]["screenshot"] = shot
+            page.close()
+        browser.close()
+    return found

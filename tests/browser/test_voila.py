@@ -1,5 +1,6 @@
-"""Real-browser check of the run explorer: the quick-start notebook served by Voila
-on 127.0.0.1 and driven in headless Chromium (Debian's package, via Playwright).
+"""Real-browser check of the run explorer: the quick-start notebook served by Voila (and
+run in JupyterLab) on 127.0.0.1 and driven in headless Chromium (Debian's package, via
+Playwright).
 
 The ΔH_vap shown on the page after a point is toggled must equal what
 vpkit.analyze gives for the same exclusions (common practice, no source: the page
@@ -54,3 +55,19 @@ def test_explorer_fits_laptop_and_desktop_screens(tmp_path):
             assert left >= pl - 1 and right <= pr + 1, (w, got)
             assert left >= 0 and right <= w, (w, got)
         assert got["scroll_width"] <= w + 1, (w, got["scroll_width"])
+
+
+@pytest.mark.skipif(REASON is not None, reason=f"real-browser test skipped: {REASON}")
+def test_explorer_fits_in_jupyterlab_with_the_file_browser_open(tmp_path):
+    """The quick-start notebook run in JupyterLab 4 (Run All Cells), its file browser open,
+    at 1366x768 and 1920x1080: every figure canvas lies inside the notebook panel."""
+    pytest.importorskip("jupyterlab")
+    from browser import lab_layout_at
+
+    found = lab_layout_at(tmp_path, [(1366, 768), (1920, 1080)])
+    for (w, _), got in found.items():
+        assert got["sidebar_width"] > 200, "the file browser is not open"
+        assert got["canvas"], f"no figure canvas at {w} px"
+        pl, _, pr, _ = got["panel"]
+        for left, _, right, _ in got["canvas"]:
+            assert left >= pl - 1 and right <= pr + 1, (w, got)

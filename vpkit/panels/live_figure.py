@@ -54,7 +54,7 @@ class LiveFigure:
                                  "excluded (click to toggle)"],
                                 loc="lower left", fontsize=8, frameon=False, numpoints=1)
         ax.set_ylabel(r"$\ln(p_\mathrm{vap}/\mathrm{Pa})$")
-        axr.set_ylabel("residual")
+        axr.set_ylabel(r"$\Delta \ln p$")
         axr.set_xlabel(r"$1000\,\mathrm{K}/T$")
         ax.tick_params(labelbottom=False)
         top = ax.secondary_xaxis("top", functions=(lambda v: 1000.0 / np.asarray(v) - T_ZERO_C,
