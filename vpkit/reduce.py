@@ -252,9 +252,9 @@ def air_reference_temperature(x: Mapping[str, np.ndarray], setup: ReductionSetup
 #: Point flags: key -> plain-language text (the value that triggered it is added).
 FLAG_TEXT = {
     "volume": "gas volume is not positive: check the scale offset and direction",
-    "p_low": "vapor pressure <= 0: the bubble is smaller than the air alone would fill "
+    "p_low": "vapor pressure ≤ 0: the bubble is smaller than the air alone would fill "
              "(check the reading or the air amount)",
-    "p_high": "vapor pressure >= total pressure: impossible below boiling",
+    "p_high": "vapor pressure ≥ total pressure: impossible below boiling",
     "above_boiling": "bath above the measured boiling point: the bubble cannot be stable",
     "shrinks": "gas volume smaller than at a lower temperature",
 }

@@ -131,7 +131,7 @@ def _status(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> list[st
         elif n[r] < p:
             out[r] = f"{m.label} needs at least {p} included points, got {n[r]}"
         else:
-            out[r] = ("an included point has no finite ln p (vapor pressure <= 0?); exclude it "
+            out[r] = ("an included point has no finite ln p (vapor pressure ≤ 0?); exclude it "
                       "or correct it")
     return out
 

@@ -227,7 +227,7 @@ WARN_CASES = [
     ("volume shrinks as temperature rises", sub("35.0,2.216", "35.0,2.050"),
      "smaller than at a lower temperature", 2),
     ("bubble below the air-only volume", sub("25.0,1.993", "25.0,1.700"),
-     "vapor pressure <= 0", 0),
+     "vapor pressure ≤ 0", 0),
     ("bath above measured boiling point", sub("boiling_point,78.3", "boiling_point,48.0"),
      "above the measured boiling point", 5),
 ]

@@ -65,9 +65,9 @@ def test_flags_never_drop_points():
     flags = rd.point_flags([300.0, 310.0, 320.0], [2e-6, 1.9e-6, 3e-6],
                            [1e5, 1e5, 1e5], [-5.0, 100.0, 2e5], T_boil=315.0)
     assert len(flags) == 3
-    assert "vapor pressure <= 0" in flags[0][0]
+    assert "vapor pressure ≤ 0" in flags[0][0]
     assert any("smaller than at a lower" in f for f in flags[1])
-    assert any(">= total pressure" in f for f in flags[2])
+    assert any("≥ total pressure" in f for f in flags[2])
     assert any("boiling point" in f for f in flags[2])
 
 

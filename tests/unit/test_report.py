@@ -2,6 +2,8 @@
 
 Journal column widths 85 / 175 mm and 300 dpi: common practice, no source."""
 
+import dataclasses
+
 import numpy as np
 import pytest
 
@@ -57,3 +59,12 @@ def test_command_line_reports_bad_file(tmp_path, capsys):
     bad.write_text("[run]\nliquid,water,,\n")
     assert main(["analyze", str(bad), "--out", str(tmp_path / "o")]) == 2
     assert "bad.csv" in capsys.readouterr().err
+
+
+def test_markdown_shows_comparison_signs_not_html_entities():
+    """A flag text with ≤ reads as such in the Markdown summary (no '&lt;=')."""
+    run = make_run("ethanol")
+    a = vpkit.analyze(dataclasses.replace(run, reading=(run.reading[0] - 0.5,) + run.reading[1:]),
+                      warn=False)
+    s = a.summary()
+    assert "≤ 0" in s and "&lt;" not in s
