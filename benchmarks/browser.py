@@ -56,7 +56,8 @@ class VoilaServer:
         self.port = _free_port()
         self.proc: subprocess.Popen | None = None
 
-    def __enter__(self) -> VoilaServer:
+    def _prepare(self, log_name: str) -> dict:
+        """Copy the notebook and clean demo data; an environment of private folders."""
         w = self.workdir
         w.mkdir(parents=True, exist_ok=True)
         shutil.copytree(ROOT / "data", w / "data", dirs_exist_ok=True, ignore=CLEAN)
@@ -67,21 +68,30 @@ class VoilaServer:
                          ("JUPYTER_CONFIG_DIR", "jcfg"), ("JUPYTER_DATA_DIR", "jdata"),
                          ("JUPYTER_RUNTIME_DIR", "jrun")):
             env[var] = str(w / sub)
-        self.log = open(w / "voila.log", "w")  # noqa: SIM115
+        self.log = open(w / log_name, "w")  # noqa: SIM115
+        return env
+
+    def __enter__(self) -> VoilaServer:
+        w = self.workdir
+        env = self._prepare("voila.log")
         self.proc = subprocess.Popen(
             [sys.executable, "-m", "voila", self.notebook, "--no-browser",
              f"--port={self.port}", "--Voila.ip=127.0.0.1", "--Voila.port_retries=0"],
             cwd=w / "notebooks", env=env, stdout=self.log, stderr=subprocess.STDOUT)
-        deadline = time.time() + 90
+        return self._wait("voila", "voila/static/voila.js", w / "voila.log", 90)
+
+    def _wait(self, name: str, path: str, log: Path, seconds: float):
+        """Poll ``path`` on the server until it answers (or the process dies)."""
+        deadline = time.time() + seconds
         while time.time() < deadline:
             if self.proc.poll() is not None:
-                raise RuntimeError(f"voila exited early; see {w / 'voila.log'}")
+                raise RuntimeError(f"{name} exited early; see {log}")
             try:
-                with urllib.request.urlopen(f"{self.url}voila/static/voila.js", timeout=2):
+                with urllib.request.urlopen(f"{self.url}{path}", timeout=2):
                     return self
             except OSError:
                 time.sleep(0.5)
-        raise RuntimeError("voila did not answer within 90 s")
+        raise RuntimeError(f"{name} did not answer within {seconds:g} s")
 
     @property
     def url(self) -> str:
@@ -218,16 +228,7 @@ class LabServer(VoilaServer):
 
     def __enter__(self) -> LabServer:
         w = self.workdir
-        w.mkdir(parents=True, exist_ok=True)
-        shutil.copytree(ROOT / "data", w / "data", dirs_exist_ok=True, ignore=CLEAN)
-        (w / "notebooks").mkdir(exist_ok=True)
-        shutil.copy(ROOT / "notebooks" / self.notebook, w / "notebooks" / self.notebook)
-        env = dict(os.environ)
-        for var, sub in (("HOME", "home"), ("IPYTHONDIR", "ipython"), ("MPLCONFIGDIR", "mpl"),
-                         ("JUPYTER_CONFIG_DIR", "jcfg"), ("JUPYTER_DATA_DIR", "jdata"),
-                         ("JUPYTER_RUNTIME_DIR", "jrun")):
-            env[var] = str(w / sub)
-        self.log = open(w / "lab.log", "w")  # noqa: SIM115
+        env = self._prepare("lab.log")
         self.proc = subprocess.Popen(
             [sys.executable, "-m", "jupyterlab", "--no-browser", f"--port={self.port}",
              "--ServerApp.ip=127.0.0.1", "--ServerApp.port_retries=0",
@@ -235,16 +236,7 @@ class LabServer(VoilaServer):
              "--LabApp.news_url=", "--LabApp.check_for_updates_class="
              "jupyterlab.NeverCheckForUpdate", f"--ServerApp.root_dir={w}"],
             cwd=w, env=env, stdout=self.log, stderr=subprocess.STDOUT)
-        deadline = time.time() + 120
-        while time.time() < deadline:
-            if self.proc.poll() is not None:
-                raise RuntimeError(f"jupyterlab exited early; see {w / 'lab.log'}")
-            try:
-                with urllib.request.urlopen(f"{self.url}api/status", timeout=2):
-                    return self
-            except OSError:
-                time.sleep(0.5)
-        raise RuntimeError("jupyterlab did not answer within 120 s")
+        return self._wait("jupyterlab", "api/status", w / "lab.log", 120)
 
 
 _LAB_LAYOUT = """() => {

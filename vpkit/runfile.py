@@ -432,9 +432,6 @@ def append_reading(path, temperature: float, reading: float, *, include: bool = 
     or the new one, never a half-written one; the run read back must equal the old
     run plus the new reading, or nothing is written.
     """
-    import os
-    import tempfile
-
     path = Path(path)
     data = path.read_bytes()
     old = parse_run(data, source=str(path), decimal=decimal)
@@ -468,10 +465,21 @@ def append_reading(path, temperature: float, reading: float, *, include: bool = 
                            hint="add the line by hand")
     codec = "utf-16" if data.startswith((b"\xff\xfe", b"\xfe\xff")) else (
         "utf-8-sig" if data.startswith(b"\xef\xbb\xbf") else "utf-8")
+    atomic_write_text(path, new_text, encoding=codec)
+    return read_run(path, decimal=decimal)
+
+
+def atomic_write_text(path, text: str, *, encoding: str = "utf-8") -> Path:
+    """Write ``text`` to ``path`` so that a crash leaves the old file or the new one:
+    a temporary file in the same folder, flushed to disk, then renamed over ``path``."""
+    import os
+    import tempfile
+
+    path = Path(path)
     fd, tmp = tempfile.mkstemp(prefix=path.name + ".", suffix=".tmp", dir=path.parent)
     try:
-        with os.fdopen(fd, "w", encoding=codec, newline="") as fh:
-            fh.write(new_text)
+        with os.fdopen(fd, "w", encoding=encoding, newline="") as fh:
+            fh.write(text)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
@@ -481,4 +489,4 @@ def append_reading(path, temperature: float, reading: float, *, include: bool = 
         except OSError:
             pass
         raise
-    return read_run(path, decimal=decimal)
+    return path

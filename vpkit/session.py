@@ -18,8 +18,6 @@ from __future__ import annotations
 import datetime as _dt
 import hashlib
 import json
-import os
-import tempfile
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -27,7 +25,7 @@ from typing import Any
 
 from .errors import InputError
 from .run import Run
-from .runfile import format_run
+from .runfile import atomic_write_text, format_run
 
 SCHEMA = 1
 KIND = "vpkit-session"
@@ -131,21 +129,7 @@ def save_session(state: SessionState, path) -> Path:
     stamped = SessionState(state.run_sha256, state.include, state.reasons, state.choices,
                            _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
                            state.points)
-    text = stamped.to_json()
-    fd, tmp = tempfile.mkstemp(prefix=path.name + ".", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
-    return path
+    return atomic_write_text(path, stamped.to_json())
 
 
 def load_session(path, run: Run | None = None) -> SessionState:
