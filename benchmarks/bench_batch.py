@@ -25,11 +25,12 @@ import numpy as np
 import pandas as pd
 
 import vpkit
-from vpkit.batch import analyze_table
+from vpkit.analysis.many_runs import analyze_table
 from vpkit.constants import T_ZERO_C
-from vpkit.reference import antoine_curve, liquid_density
-from vpkit.simulate import NOISE, forward_readings
-from vpkit.table import table_to_runs
+from vpkit.physics.curves import antoine_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import NOISE, forward_readings
+from vpkit.record.longtable import table_to_runs
 
 LIQUIDS = ["ethanol", "water", "toluene", "2-propanol"]
 

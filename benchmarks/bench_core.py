@@ -15,9 +15,10 @@ import time
 import numpy as np
 
 import vpkit
-from vpkit.fit import fit_points
-from vpkit.reference import antoine_curve, liquid_density
-from vpkit.simulate import NOISE, simulate_run
+from vpkit.fitting.fit import fit_points
+from vpkit.physics.curves import antoine_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import NOISE, simulate_run
 
 
 def median_ms(fn, repeat):

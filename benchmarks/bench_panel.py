@@ -22,11 +22,12 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 
 import vpkit
+from vpkit.output.figures import run_figure
 from vpkit.panels import explore
 from vpkit.panels.live_figure import LiveFigure
-from vpkit.plots import run_figure
-from vpkit.reference import antoine_curve, liquid_density
-from vpkit.simulate import NOISE, simulate_run
+from vpkit.physics.curves import antoine_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import NOISE, simulate_run
 
 
 def ten_point_run():

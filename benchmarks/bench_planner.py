@@ -16,7 +16,7 @@ import time
 
 import numpy as np
 
-from vpkit.planner import Plan, predict, search
+from vpkit.planning.planner import Plan, predict, search
 
 
 def median_time(fn, repeat: int = 7) -> float:

@@ -5,8 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from vpkit.reference import liquid_density, reference_curve
-from vpkit.simulate import simulate_run
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import simulate_run
 
 
 @pytest.fixture(autouse=True)

@@ -10,8 +10,14 @@ Typical use::
     result.figure().savefig("run.png", dpi=300)
 """
 
-from . import display
-from .analysis import Analysis, analyze
+from .analysis import (
+    Analysis,
+    ManyResult,
+    analyze,
+    analyze_many,
+    analyze_table,
+    compare_to_reference,
+)
 from .errors import (
     BadValueError,
     FitError,
@@ -22,13 +28,11 @@ from .errors import (
     VpkitError,
     VpkitWarning,
 )
-from .fit import FitResult, fit_points
-from .planner import plan
-from .reading_check import check_reading
-from .reference import compare_to_reference, liquids, reference_curve
-from .run import Entry, Run
-from .runfile import format_run, parse_run, read_run, write_run
-from .stack import RunStack, stack_runs
+from .fitting import FitResult, fit_points
+from .output import display
+from .physics import liquids, reference_curve
+from .planning import check_reading, plan
+from .record import Entry, Run, RunStack, format_run, parse_run, read_run, stack_runs, write_run
 
 __version__ = "0.1.0"
 
@@ -68,5 +72,6 @@ __all__ = [
     "InputError", "Run", "RunStack", "check_reading", "stack_runs",
     "RunFileError", "UnitError", "VpkitError", "VpkitWarning", "analyze", "compare_to_reference",
     "explore", "fit_points", "overview", "format_run", "liquids", "parse_run", "plan",
-    "plan_panel", "read_run", "reference_curve", "write_run", "display",
+    "plan_panel", "read_run", "reference_curve", "write_run", "display", "ManyResult",
+    "analyze_many", "analyze_table",
 ]

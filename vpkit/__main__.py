@@ -97,10 +97,10 @@ def _plan_options(p) -> None:
 def _plan(args) -> int:
     import numpy as np
 
-    from . import display as D
     from .constants import T_ZERO_C
-    from .planner import Plan, predict, search
-    from .report import SAFETY_NOTE
+    from .output import display as D
+    from .output.run_summary import SAFETY_NOTE
+    from .planning.planner import Plan, predict, search
 
     try:
         plan = Plan(args.liquid, args.bubble * 1e-6,
@@ -154,11 +154,11 @@ def _print_prediction(title, p, D) -> None:
 
 
 def _analyze(args) -> int:
-    from . import display as D
-    from .analysis import analyze
-    from .report import SAFETY_NOTE, write_outputs
-    from .runfile import read_run
-    from .session import SessionError, load_session, session_path
+    from .analysis.one_run import analyze
+    from .output import display as D
+    from .output.run_summary import SAFETY_NOTE, write_outputs
+    from .record.runfile import read_run
+    from .record.session import SessionError, load_session, session_path
 
     status = 0
     for path in args.runs:
@@ -200,9 +200,9 @@ def _analyze(args) -> int:
 
 
 def _report(args) -> int:
-    from .batch import analyze_many
-    from .batch_report import write_batch_report
-    from .report import SAFETY_NOTE
+    from .analysis.many_runs import analyze_many
+    from .output.run_summary import SAFETY_NOTE
+    from .output.section_report import write_batch_report
 
     try:
         many = analyze_many(args.source, sessions=not args.ignore_session, **_choices(args))

@@ -14,9 +14,10 @@ from pathlib import Path
 
 import numpy as np
 
-from vpkit.reference import liquid_density, reference_curve
-from vpkit.runfile import write_run
-from vpkit.simulate import NOISE, simulate_run
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import NOISE, simulate_run
+from vpkit.record.runfile import write_run
 
 HERE = Path(__file__).parent
 NOTE = ("# INVENTED DEMO DATA: simulated from a published vapor-pressure equation with "

@@ -19,9 +19,10 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.batch import analyze_table, runs_to_table
+from vpkit.analysis.many_runs import analyze_table
 from vpkit.errors import VpkitError
-from vpkit.simulate import NOISE
+from vpkit.physics.simulate import NOISE
+from vpkit.record.longtable import runs_to_table
 
 ROOT = Path(__file__).resolve().parents[2]
 TOKENS = ["1e400", "1e-5", "nan", "-273.16", "0", "-1", "inf", "1e308", "kPa", "degC", "K",

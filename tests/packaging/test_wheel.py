@@ -39,9 +39,10 @@ def test_wheel_installs_and_runs_outside_the_repo(tmp_path):
                     str(ROOT)], check=True, capture_output=True)
     wheel = next(dist.glob("vpkit-*.whl"))
     names = zipfile.ZipFile(wheel).namelist()
-    for needed in ("vpkit/panels/__init__.py", "vpkit/panels/run_panel.py",
-                   "vpkit/data/antoine_poling.csv", "vpkit/data/water_iapws95_psat.csv",
-                   "vpkit/engine.py"):
+    for needed in ("vpkit/panels/__init__.py", "vpkit/panels/explorer.py",
+                   "vpkit/physics/data/antoine_poling.csv",
+                   "vpkit/physics/data/water_iapws95_psat.csv", "vpkit/analysis/engine.py",
+                   "vpkit/record/__init__.py", "vpkit/output/__init__.py"):
         assert needed in names, needed
     assert next(dist.glob("vpkit-*.tar.gz"))
     venv = tmp_path / "fresh"

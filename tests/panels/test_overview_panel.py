@@ -9,8 +9,8 @@ import vpkit
 
 pytest.importorskip("ipywidgets")
 from tests.conftest import make_run  # noqa: E402
-from vpkit.batch import analyze_runs  # noqa: E402
-from vpkit.simulate import NOISE  # noqa: E402
+from vpkit.analysis.many_runs import analyze_runs
+from vpkit.physics.simulate import NOISE
 
 
 @pytest.fixture

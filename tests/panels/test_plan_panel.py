@@ -5,9 +5,9 @@ import numpy as np
 import pytest
 
 pytest.importorskip("ipywidgets")
-from vpkit import display as D  # noqa: E402
-from vpkit.panels import plan_panel  # noqa: E402
-from vpkit.planner import predict  # noqa: E402
+from vpkit.output import display as D
+from vpkit.panels import plan_panel
+from vpkit.planning.planner import predict
 
 
 def test_sliders_drive_the_prediction():

@@ -15,9 +15,9 @@ pytest.importorskip("ipywidgets")
 from matplotlib.backend_bases import MouseEvent  # noqa: E402
 
 from tests.conftest import make_run  # noqa: E402
-from vpkit.panels import explore  # noqa: E402
-from vpkit.session import session_path  # noqa: E402
-from vpkit.simulate import NOISE  # noqa: E402
+from vpkit.panels import explore
+from vpkit.physics.simulate import NOISE
+from vpkit.record.session import session_path
 
 
 @pytest.fixture

@@ -13,7 +13,8 @@ independent published sources:
 import numpy as np
 import pytest
 
-from vpkit.reference import antoine_curve, antoine_table, liquid_density
+from vpkit.physics.curves import antoine_curve
+from vpkit.physics.liquids import antoine_table, liquid_density
 
 chemicals = pytest.importorskip("chemicals")
 ROWS = list(antoine_table().itertuples())

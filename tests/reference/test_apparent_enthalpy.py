@@ -14,7 +14,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.reference import liquids, reference_curve
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import liquids
 
 
 @pytest.mark.parametrize("liquid", liquids())

@@ -19,8 +19,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.batch import analyze_runs
-from vpkit.simulate import NOISE
+from vpkit.analysis.many_runs import analyze_runs
+from vpkit.physics.simulate import NOISE
 
 N_RUNS = 1000
 
@@ -70,8 +70,8 @@ def test_coverage_with_coarse_graduations_declared(liquid, t_c):
     """
     import dataclasses
 
-    from vpkit.reference import reference_curve
-    from vpkit.run import Entry
+    from vpkit.physics.curves import reference_curve
+    from vpkit.record.fields import Entry
 
     rng = np.random.default_rng(7)
     curve = reference_curve(liquid)

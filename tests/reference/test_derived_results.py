@@ -19,7 +19,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.reference import liquids, reference_curve, vaporization_enthalpy
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import liquids, vaporization_enthalpy
 
 CP = pytest.importorskip("CoolProp.CoolProp")
 COOLPROP = {"water": "Water", "methanol": "Methanol", "ethanol": "Ethanol",

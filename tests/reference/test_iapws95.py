@@ -7,7 +7,7 @@ import pytest
 import vpkit
 from tests.conftest import make_run
 from vpkit.constants import R
-from vpkit.reference import iapws95_curve
+from vpkit.physics.curves import iapws95_curve
 
 pytest.importorskip("iapws")
 W = iapws95_curve()

@@ -10,7 +10,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from vpkit.fit import fit_points
+from vpkit.fitting.fit import fit_points
 
 DATA = Path(__file__).parent / "data"
 

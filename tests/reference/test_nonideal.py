@@ -2,7 +2,7 @@
 sources:
 
 - the chemicals package: its default critical constants, acentric factors and dipole
-  moments (sources named per row in vpkit/data/virial_tsonopoulos.csv), its
+  moments (sources named per row in vpkit/physics/data/virial_tsonopoulos.csv), its
   implementation of the Tsonopoulos correlation (BVirial_Tsonopoulos_extended:
   Tsonopoulos 1974, Tsonopoulos & Heidman 1990) and of VDI Heat Atlas PPDS equation 12
   (phase_change.PPDS12);
@@ -21,8 +21,9 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.nonideal import B_RELATIVE_U, B_RELATIVE_U_DEFAULT, second_virial, virial_table
-from vpkit.reference import hvap_table, liquids, reference_curve, vaporization_enthalpy
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import hvap_table, liquids, vaporization_enthalpy
+from vpkit.physics.nonideal import B_RELATIVE_U, B_RELATIVE_U_DEFAULT, second_virial, virial_table
 
 chemicals = pytest.importorskip("chemicals")
 CP = pytest.importorskip("CoolProp.CoolProp")

@@ -10,7 +10,8 @@ against the published tables they come from and against independent equations:
 import numpy as np
 import pytest
 
-from vpkit.reference import antoine_curve, ppds_curve, ppds_table
+from vpkit.physics.curves import antoine_curve, ppds_curve
+from vpkit.physics.liquids import ppds_table
 
 chemicals = pytest.importorskip("chemicals")
 from chemicals.vapor_pressure import (  # noqa: E402

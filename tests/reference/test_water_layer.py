@@ -9,8 +9,9 @@ import numpy as np
 import pytest
 
 import vpkit
-from vpkit.reference import liquid_density, reference_curve
-from vpkit.simulate import simulate_run
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import simulate_run
 
 iapws = pytest.importorskip("iapws")
 

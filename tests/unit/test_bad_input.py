@@ -19,7 +19,8 @@ from vpkit.errors import (
     VpkitError,
     VpkitWarning,
 )
-from vpkit.session import SessionError, SessionState, load_session, save_session
+from vpkit.record import run_in_si
+from vpkit.record.session import SessionError, SessionState, load_session, save_session
 
 # A plausible ethanol run (values rounded from a simulation of the Poling et al.
 # Antoine equation; used only as a well-formed base to damage).
@@ -62,7 +63,7 @@ def load(text):
     return vpkit.parse_run(text, source="bench4.csv")
 
 
-# (id, text, error type, row, column) -- raised by parse_run(...).to_si()
+# (id, text, error type, row, column) -- raised by run_in_si(parse_run(...))
 FILE_CASES = [
     ("empty file", "", RunFileError, None, None),
     ("only blank lines", "\n\n  \n", RunFileError, None, None),
@@ -166,7 +167,7 @@ FILE_CASES = [
 def test_bad_file(case):
     _, text, error, row, column = case
     with pytest.raises(VpkitError) as info:
-        load(text).to_si()
+        run_in_si(load(text))
     err = info.value
     assert type(err) is error, f"{type(err).__name__}: {err}"
     assert isinstance(err, ValueError)
@@ -340,7 +341,7 @@ def test_uncertainty_in_any_spelling_of_a_temperature_unit():
         if unit == "degF":
             text = sub("room_temperature,21.0,degC,0.3", "room_temperature,69.8,degF,0.3")
         run = load(text)
-        assert run.to_si().u["T_room"] == pytest.approx(expected, rel=1e-12), unit
+        assert run_in_si(run).u["T_room"] == pytest.approx(expected, rel=1e-12), unit
 
 
 def test_a_run_that_cannot_be_fitted_shows_no_invented_numbers(tmp_path):
@@ -354,7 +355,7 @@ def test_a_run_that_cannot_be_fitted_shows_no_invented_numbers(tmp_path):
         "pair1,ethanol,100.2,21.0,1.85,30.0000,28.4230,25.0,1.993,yes,\n"
         "pair1,ethanol,100.2,21.0,1.85,30.0000,28.4230,30.0,2.089,yes,\n"
         "pair2,toluene,100.2,21.5,2.05,31.2000,29.4310,25.0,2.160,yes,\n")
-    from vpkit.batch import analyze_many
+    from vpkit.analysis.many_runs import analyze_many
 
     with warnings.catch_warnings():
         warnings.simplefilter("error", RuntimeWarning)
@@ -386,12 +387,12 @@ def test_slips_are_blamed_on_the_right_place(case):
                                       " degC "])
 def test_spellings_people_type_are_accepted(spelling):
     run = load(sub("room_temperature,21.0,degC", f"room_temperature,21.0,{spelling}"))
-    assert run.to_si().T_room == pytest.approx(294.15)
+    assert run_in_si(run).T_room == pytest.approx(294.15)
 
 
 def test_mm_hg_torr_and_utf16(tmp_path):
     run = load(sub("barometric_pressure,100.2,kPa,0.1", "barometric_pressure,751.6,mm Hg,1"))
-    assert run.to_si().P_bar == pytest.approx(751.6 * 133.322387415, rel=1e-9)
+    assert run_in_si(run).P_bar == pytest.approx(751.6 * 133.322387415, rel=1e-9)
     p = tmp_path / "export.csv"
     p.write_text(BASE, encoding="utf-16")
     assert vpkit.read_run(p).n_points == 6
@@ -409,7 +410,7 @@ def test_values_no_measurement_can_have_are_refused_at_the_edge(entry, value, un
     line = next(x for x in BASE.splitlines() if x.startswith(entry + ","))
     text = BASE.replace(line, re.sub(r",[^,]*,[^,]*,", f",{value},{unit},", line, count=1))
     with pytest.raises(ImpossibleDataError) as info:
-        load(text).to_si()
+        run_in_si(load(text))
     assert info.value.column == entry and info.value.row is not None
     assert "check the value and its unit" in info.value.hint
 

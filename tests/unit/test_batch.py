@@ -14,9 +14,9 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.batch import analyze_many, analyze_runs, analyze_table, read_runs, runs_to_table
-from vpkit.simulate import NOISE
-from vpkit.table import stack_table
+from vpkit.analysis.many_runs import analyze_many, analyze_runs, analyze_table
+from vpkit.physics.simulate import NOISE
+from vpkit.record.longtable import read_runs, runs_to_table, stack_table
 
 LIQUIDS = ["ethanol", "water", "toluene", "2-propanol", "acetone", "heptane"]
 NUMERIC = ["ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]", "T_b at run pressure [degC]",
@@ -153,7 +153,7 @@ def test_table_pressure_uncertainty_follows_the_barometer():
         rows.append(df)
     table = pd.concat(rows, ignore_index=True)
     many = analyze_table(table).set_index("run_id")
-    for rid, run in vpkit.batch.table_to_runs(table).items():
+    for rid, run in vpkit.record.table_to_runs(table).items():
         single = vpkit.analyze(run, warn=False).results().iloc[0]
         assert many.loc[rid, "u(ΔH_vap) [kJ/mol]"] == pytest.approx(
             single["u(ΔH_vap) [kJ/mol]"], rel=1e-12)
@@ -178,7 +178,7 @@ def test_bad_readings_refused_alike(case):
     assert stack.run_ids == ("run000", "run002")
     (rid, exc), = failures
     assert rid == "run001" and type(exc).__name__ == error and fragment in str(exc)
-    run = vpkit.batch.table_to_runs(table)["run001"]
+    run = vpkit.record.table_to_runs(table)["run001"]
     with pytest.raises(vpkit.ImpossibleDataError, match=fragment):
         vpkit.analyze(run)
     summary = analyze_table(table).set_index("run_id")

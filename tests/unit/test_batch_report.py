@@ -9,9 +9,9 @@ import numpy as np
 import vpkit
 from tests.conftest import make_run
 from vpkit.__main__ import main
-from vpkit.batch import analyze_many
-from vpkit.batch_report import write_batch_report
-from vpkit.simulate import NOISE
+from vpkit.analysis.many_runs import analyze_many
+from vpkit.output.section_report import write_batch_report
+from vpkit.physics.simulate import NOISE
 
 
 class _Collect(HTMLParser):

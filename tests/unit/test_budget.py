@@ -11,8 +11,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.budget import GROUPS, contributions, group_of
-from vpkit.simulate import NOISE
+from vpkit.analysis.budget import GROUPS, contributions, group_of
+from vpkit.physics.simulate import NOISE
 
 
 def _run(liquid="water"):

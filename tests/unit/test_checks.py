@@ -6,8 +6,8 @@ import numpy as np
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.batch import analyze_runs
-from vpkit.checks import flags_of
+from vpkit.analysis.findings import flags_of
+from vpkit.analysis.many_runs import analyze_runs
 
 
 def test_findings_carry_their_numbers():

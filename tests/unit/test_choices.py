@@ -6,8 +6,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.choices import Choices, resolve
-from vpkit.stack import stack_runs
+from vpkit.analysis.choices import Choices, resolve
+from vpkit.record.assemble import stack_runs
 
 
 def _unknown_liquid():

@@ -9,16 +9,16 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from vpkit.constants import R
-from vpkit.derived import (
+from vpkit.analysis.derived import (
     DCP_ASSUMED,
     DZ_ASSUMED,
     boiling_point_bias,
     entropy_at_boiling,
     trouton_verdict,
 )
-from vpkit.fit import fit_stack
-from vpkit.reference import CurveSet
+from vpkit.constants import R
+from vpkit.fitting.fit import fit_stack
+from vpkit.physics.curves import CurveSet
 
 T = np.linspace(298.15, 333.15, 8)
 dH, Tb_line = 32000.0, 350.0

@@ -13,10 +13,10 @@ import pytest
 import vpkit
 from tests.conftest import make_run
 from vpkit import errors as E
-from vpkit.choices import Choices
-from vpkit.engine import analyze_stack
-from vpkit.simulate import NOISE
-from vpkit.stack import stack_runs
+from vpkit.analysis.choices import Choices
+from vpkit.analysis.engine import analyze_stack
+from vpkit.physics.simulate import NOISE
+from vpkit.record.assemble import stack_runs
 
 
 def _arrays(obj, seen, path="", depth=0):

@@ -7,7 +7,8 @@ import pytest
 
 from vpkit.constants import R
 from vpkit.errors import FitError
-from vpkit.fit import MODELS, fit_points
+from vpkit.fitting.fit import fit_points
+from vpkit.fitting.models import MODELS
 
 T = np.linspace(298.15, 343.15, 8)
 

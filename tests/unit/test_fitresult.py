@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 import uncertainties
 
-from vpkit.fit import fit_points
+from vpkit.fitting.fit import fit_points
 
 T = np.linspace(298.15, 343.15, 8)
 y = 20 - 4000 / T + np.array([0, 1, -1, 0, 2, -1, 0, 1]) * 1e-3

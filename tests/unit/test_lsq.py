@@ -8,7 +8,7 @@ marginal covariance of the remaining points (Cook & Weisberg 1982, section 2.2).
 import numpy as np
 import pytest
 
-from vpkit import lsq
+from vpkit.fitting import lsq
 
 rng = np.random.default_rng(3)
 

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from vpkit.constants import R
-from vpkit.models import MODELS, get_model
+from vpkit.fitting.models import MODELS, get_model
 
 PARAMS = {"clausius_clapeyron": (25.0, -5200.0), "constant_dcp": (60.0, -7000.0, -5.0),
           "antoine": (23.5, 3900.0, -45.0)}

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from vpkit.constants import R
-from vpkit.nonideal import (
+from vpkit.physics.nonideal import (
     delta_z,
     delta_z_runs,
     has_virial,

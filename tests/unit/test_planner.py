@@ -9,10 +9,11 @@ import numpy as np
 import pytest
 
 from vpkit.__main__ import main
-from vpkit.batch import analyze_runs
-from vpkit.planner import INSTRUMENTS, Plan, predict, search
-from vpkit.reference import liquid_density, reference_curve
-from vpkit.simulate import NOISE, forward_readings, simulate_run
+from vpkit.analysis.many_runs import analyze_runs
+from vpkit.physics.curves import reference_curve
+from vpkit.physics.liquids import liquid_density
+from vpkit.physics.simulate import NOISE, forward_readings, simulate_run
+from vpkit.planning.planner import INSTRUMENTS, Plan, predict, search
 
 T = tuple(np.linspace(25.0, 60.0, 8) + 273.15)
 

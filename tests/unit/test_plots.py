@@ -9,8 +9,8 @@ from matplotlib.lines import Line2D
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.plots import run_figure
-from vpkit.simulate import NOISE
+from vpkit.output.figures import run_figure
+from vpkit.physics.simulate import NOISE
 
 
 def _analyses():

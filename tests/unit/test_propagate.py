@@ -8,7 +8,7 @@ from uncertainties import covariance_matrix, ufloat, umath
 
 import vpkit
 from tests.conftest import make_run
-from vpkit import reduce as rd
+from vpkit.physics import reduce as rd
 
 
 def test_jacobian_covariance_matches_uncertainties_package():
@@ -67,7 +67,7 @@ def test_published_p_vap_at_the_air_reference_carries_its_uncertainty():
     p_ref = r.p_ref[0]
     h = 1e-3 * p_ref
     # central difference of ln p_vap in p_ref, by redoing the reduction by hand
-    from vpkit import reduce as rd
+    from vpkit.physics import reduce as rd
     si = a.si
     V_room = (si.mass_before - si.mass_after) / (si.density - rd.gas_density(si.P_bar, si.T_room))
     V = V_room - si.room_reading + si.reading

@@ -10,8 +10,10 @@ from hypothesis import strategies as st
 
 import vpkit
 from vpkit.errors import VpkitError
-from vpkit.reference import antoine_curve, liquid_density, liquids
-from vpkit.simulate import simulate_run
+from vpkit.physics.curves import antoine_curve
+from vpkit.physics.liquids import liquid_density, liquids
+from vpkit.physics.simulate import simulate_run
+from vpkit.record import run_in_si
 
 
 def examples(n):
@@ -24,7 +26,7 @@ def examples(n):
 def test_any_bytes_raise_only_vpkit_errors(data):
     try:
         run = vpkit.parse_run(data, source="fuzz.csv")
-        run.to_si()
+        run_in_si(run)
     except VpkitError:
         pass
 

@@ -14,7 +14,7 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.simulate import NOISE
+from vpkit.physics.simulate import NOISE
 
 
 def _first(run, k):

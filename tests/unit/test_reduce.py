@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 from uncertainties import ufloat
 
-from vpkit import reduce as rd
+from vpkit.physics import reduce as rd
 
 R = 8.314462618
 

@@ -6,9 +6,11 @@ import math
 import numpy as np
 import pytest
 
+from vpkit.analysis.comparison import compare_to_reference
 from vpkit.constants import R
 from vpkit.errors import InputError
-from vpkit.reference import antoine_curve, canonical_name, compare_to_reference, liquids
+from vpkit.physics.curves import antoine_curve
+from vpkit.physics.liquids import canonical_name, liquids
 
 
 def test_antoine_by_hand():
@@ -47,7 +49,7 @@ def test_names_people_type(typed, name):
 def test_ppds_equation_by_hand():
     """PPDS equation 3 of the VDI Heat Atlas (2010) D3.1 with the bundled 2-propanol row,
     evaluated by hand; its T derivative against a central difference."""
-    from vpkit.reference import ppds_curve, reference_curve
+    from vpkit.physics.curves import ppds_curve, reference_curve
 
     c = ppds_curve("isopropanol")
     assert reference_curve("2-propanol") == c and c.label.startswith("PPDS")
@@ -64,7 +66,7 @@ def test_ppds_equation_by_hand():
 
 def test_auto_reference_per_liquid():
     """The one-source-per-liquid rule of reference='auto' (METHOD 5)."""
-    from vpkit.reference import has_source, reference_curve
+    from vpkit.physics.curves import has_source, reference_curve
 
     assert reference_curve("water").label == "IAPWS-95"
     assert reference_curve("1-butanol").label.startswith("PPDS")

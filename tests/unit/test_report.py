@@ -10,7 +10,7 @@ import pytest
 import vpkit
 from tests.conftest import make_run
 from vpkit.__main__ import main
-from vpkit.simulate import NOISE
+from vpkit.physics.simulate import NOISE
 
 
 @pytest.fixture(scope="module")

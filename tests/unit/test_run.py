@@ -6,6 +6,7 @@ import pytest
 import vpkit
 from tests.conftest import make_run
 from tests.unit.test_runfile import GOOD
+from vpkit.record import run_in_si
 
 
 def test_values_and_places_as_entered():
@@ -25,7 +26,7 @@ def test_with_include_is_a_copy():
 
 def test_to_si_is_a_stack_of_one():
     run = make_run("ethanol", depth=0.05)
-    si = run.to_si()
+    si = run_in_si(run)
     stack = vpkit.stack_runs([run])
     assert si.P_bar == stack.scalar["P_bar"][0] and si.depth == pytest.approx(0.05)
     assert not si.T.flags.writeable

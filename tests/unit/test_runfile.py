@@ -10,6 +10,7 @@ import pytest
 import vpkit
 from tests.conftest import make_run
 from vpkit.errors import BadValueError, ImpossibleDataError, RunFileError, UnitError
+from vpkit.record import run_in_si
 
 GOOD = """# a comment kept on round trip
 [run]
@@ -49,7 +50,7 @@ def test_from_frame_and_to_frame():
                                room_temperature=(21.0, "degC"), scale_offset="0.1 mL")
     assert run.bath_temperature == (30.0, 40.0)
     assert list(run.to_frame()["reading [mL]"]) == [2.1, 2.3]
-    si = run.to_si()
+    si = run_in_si(run)
     assert si.P_bar == pytest.approx(100100.0)
     assert si.scale_offset == pytest.approx(1e-7)
 
@@ -82,7 +83,7 @@ def test_three_unit_sets_give_identical_results():
 ])
 def test_errors_name_the_place(text, error, where):
     with pytest.raises(error) as info:
-        vpkit.parse_run(text, source="bench.csv").to_si()
+        run_in_si(vpkit.parse_run(text, source="bench.csv"))
     assert "bench.csv" in str(info.value)
     if where:
         row, column = where
@@ -101,13 +102,13 @@ def test_decimal_comma_is_refused_with_a_hint_or_read_on_request():
 
 def test_plausibility_celsius_labelled_kelvin():
     with pytest.raises(ImpossibleDataError, match="degC"):
-        vpkit.parse_run(GOOD.replace("[degC]", "[K]")).to_si()
+        run_in_si(vpkit.parse_run(GOOD.replace("[degC]", "[K]")))
 
 
 def test_masses_swapped():
     bad = GOOD.replace("30.0,g", "28.0,g")
     with pytest.raises(ImpossibleDataError) as info:
-        vpkit.parse_run(bad).to_si()
+        run_in_si(vpkit.parse_run(bad))
     assert info.value.column == "mass_after_air"
 
 
@@ -122,7 +123,7 @@ def test_bom_and_latin1(tmp_path):
 def test_append_reading_keeps_the_file_and_its_dialect(tmp_path):
     """Appending keeps every byte already written, in the file's delimiter, decimal mark,
     line ending and encoding (common practice, no source: what a spreadsheet exported)."""
-    from vpkit.runfile import append_reading
+    from vpkit.record.runfile import append_reading
 
     text = ("# vpkit run file, format 1\r\n[run]\r\nquantity;value;unit;uncertainty\r\n"
             "liquid;ethanol;;\r\nbarometric_pressure;100,1;kPa;\r\n"

@@ -12,8 +12,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
+from vpkit.analysis.selfconsistent import SELF_CONSISTENT_TOL, solve_fixed_point
 from vpkit.errors import ConvergenceWarning
-from vpkit.selfconsistent import SELF_CONSISTENT_TOL, solve_fixed_point
 
 ROOT = Path(__file__).resolve().parents[2]
 
@@ -52,10 +52,10 @@ def test_noise_free_run_is_reproduced():
 
 
 def test_rounds_that_run_out_are_a_warning_with_the_mismatch(monkeypatch):
-    import vpkit.selfconsistent as sc
+    import vpkit.analysis.selfconsistent as sc
 
     monkeypatch.setattr(sc, "SELF_CONSISTENT_ROUNDS", 1)
-    run = make_run("ethanol", noise=vpkit.simulate.NOISE, rng=np.random.default_rng(4))
+    run = make_run("ethanol", noise=vpkit.physics.simulate.NOISE, rng=np.random.default_rng(4))
     with warnings.catch_warnings(record=True) as seen:
         warnings.simplefilter("always")
         a = vpkit.analyze(run, vapor_at_air_reference="fit")

@@ -10,7 +10,7 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.session import (
+from vpkit.record.session import (
     SessionError,
     SessionState,
     load_session,

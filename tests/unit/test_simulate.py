@@ -4,7 +4,7 @@ law and Dalton's law (no vpkit reduction involved)."""
 import numpy as np
 import pytest
 
-from vpkit.simulate import NOISE, simulate_run
+from vpkit.physics.simulate import NOISE, simulate_run
 
 R = 8.314462618  # CODATA 2018
 

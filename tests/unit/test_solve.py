@@ -5,8 +5,8 @@ values are the parameters the data were made from (the model formula itself)."""
 import numpy as np
 import pytest
 
-from vpkit.models import MODELS
-from vpkit.solve import solve_stack
+from vpkit.fitting.models import MODELS
+from vpkit.fitting.solve import solve_stack
 
 PARAMS = {"clausius_clapeyron": (25.0, -5200.0), "constant_dcp": (60.0, -7000.0, -5.0),
           "antoine": (23.5, 3900.0, -45.0)}

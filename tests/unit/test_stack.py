@@ -7,7 +7,8 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.stack import stack_runs
+from vpkit.record import run_in_si
+from vpkit.record.assemble import stack_runs
 
 
 def test_padding_masks_and_rows():
@@ -17,7 +18,7 @@ def test_padding_masks_and_rows():
     assert np.isnan(s.T[0, 3:]).all() and not s.mask[0, 3:].any()
     si = s.row(0)
     assert len(si.T) == 3 and si.liquid == "ethanol"
-    np.testing.assert_array_equal(si.T, runs["a"].to_si().T)
+    np.testing.assert_array_equal(si.T, run_in_si(runs["a"]).T)
     sub = s.take([1])
     assert sub.run_ids == ("b",) and sub.N == 8
 

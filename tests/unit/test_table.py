@@ -8,8 +8,8 @@ import pytest
 
 from tests.conftest import make_run
 from vpkit.errors import RunFileError
-from vpkit.stack import stack_runs
-from vpkit.table import runs_to_table, stack_table, table_to_runs
+from vpkit.record.assemble import stack_runs
+from vpkit.record.longtable import runs_to_table, stack_table, table_to_runs
 
 
 def test_table_and_runs_give_the_same_stack():
@@ -49,8 +49,8 @@ def test_a_bad_cell_fails_only_its_run_and_names_the_row():
 
 def test_folder_scan_skips_notebook_checkpoints(tmp_path):
     """A notebook's .ipynb_checkpoints copies are not runs (common practice, no source)."""
-    from vpkit.runfile import write_run
-    from vpkit.table import read_runs
+    from vpkit.record.longtable import read_runs
+    from vpkit.record.runfile import write_run
 
     write_run(make_run("ethanol"), tmp_path / "a.csv")
     (tmp_path / ".ipynb_checkpoints").mkdir()

@@ -7,10 +7,10 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.choices import Choices
-from vpkit.engine import analyze_stack
-from vpkit.stack import stack_runs
-from vpkit.tables import RESULT_COLUMNS, results_table
+from vpkit.analysis.choices import Choices
+from vpkit.analysis.engine import analyze_stack
+from vpkit.analysis.result_tables import RESULT_COLUMNS, results_table
+from vpkit.record.assemble import stack_runs
 
 
 def test_one_row_per_run_in_order_with_reasons():

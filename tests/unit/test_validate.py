@@ -7,7 +7,7 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.stack import stack_runs
+from vpkit.record.assemble import stack_runs
 
 
 def _with(run, **entries):
@@ -40,7 +40,7 @@ def test_reading_resolution_sets_the_reading_uncertainty():
     uncertainty is stated; a stated one wins."""
     import math
 
-    from vpkit.run import Entry
+    from vpkit.record.fields import Entry
 
     good = make_run("ethanol")
     plain = good.__class__(good.entries + (("reading_resolution", Entry(0.05, "mL")),),
@@ -56,7 +56,7 @@ def test_reading_resolution_sets_the_reading_uncertainty():
 
 
 def test_new_quantities_are_checked_with_their_place():
-    from vpkit.run import Entry
+    from vpkit.record.fields import Entry
 
     good = make_run("ethanol")
     wet = good.__class__(good.entries + (("injected_air_humidity", Entry(150.0, "%")),),

@@ -14,11 +14,11 @@ import io
 
 import ipywidgets as W
 
-from .. import display as D
-from ..batch import analyze_many
-from ..plots import overview_figure
-from ..report import SAFETY_NOTE
-from .run_panel import RunPanel
+from ..analysis.many_runs import analyze_many
+from ..output import display as D
+from ..output.figures import overview_figure
+from ..output.run_summary import SAFETY_NOTE
+from .explorer import RunPanel
 
 TABLE_COLUMNS = ["run_id", "liquid", "points used", "ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]",
                  "deviation from reference [u]", "T_b at 101.325 kPa [degC]",

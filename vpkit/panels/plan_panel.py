@@ -13,12 +13,13 @@ import time
 import ipywidgets as W
 import numpy as np
 
-from .. import display as D
 from ..constants import T_ZERO_C
 from ..errors import VpkitError
-from ..planner import Plan, predict
-from ..reference import canonical_name, reference_curve
-from ..report import SAFETY_NOTE
+from ..output import display as D
+from ..output.run_summary import SAFETY_NOTE
+from ..physics.curves import reference_curve
+from ..physics.liquids import canonical_name
+from ..planning.planner import Plan, predict
 
 
 def plan_panel(liquid: str, *, bubble_ml: float = 2.0, t_from: float = 25.0,

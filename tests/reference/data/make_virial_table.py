@@ -1,4 +1,4 @@
-"""Write vpkit/data/virial_tsonopoulos.csv, hvap_vdi_ppds.csv and melting_points.csv.
+"""Write vpkit/physics/data/virial_tsonopoulos.csv, hvap_vdi_ppds.csv and melting_points.csv.
 
 virial_tsonopoulos.csv: what the Tsonopoulos correlation of the second virial
 coefficient needs for each bundled liquid: critical temperature and pressure and
@@ -24,9 +24,9 @@ from pathlib import Path
 import chemicals
 from chemicals.phase_change import phase_change_data_VDI_PPDS_4
 
-from vpkit.reference import antoine_table
+from vpkit.physics.liquids import antoine_table
 
-DATA = Path(__file__).resolve().parents[3] / "vpkit" / "data"
+DATA = Path(__file__).resolve().parents[3] / "vpkit" / "physics" / "data"
 def g(x) -> str:
     """The shortest text that reads back as the same float."""
     return repr(float(x))

@@ -1,4 +1,4 @@
-"""Write vpkit/data/water_iapws95_psat.csv: saturation pressure of water from IAPWS-95.
+"""Write vpkit/physics/data/water_iapws95_psat.csv: saturation pressure of water from IAPWS-95.
 
 Source: W. Wagner, A. Pruss, J. Phys. Chem. Ref. Data 31, 387-535 (2002), evaluated
 with the `iapws` package (IAPWS95(T=T, x=0).P) every 0.5 K from the triple point
@@ -13,7 +13,7 @@ import iapws
 import numpy as np
 from iapws import IAPWS95
 
-OUT = Path(__file__).resolve().parents[3] / "vpkit" / "data" / "water_iapws95_psat.csv"
+OUT = Path(__file__).resolve().parents[3] / "vpkit" / "physics" / "data" / "water_iapws95_psat.csv"
 
 
 def main() -> None:

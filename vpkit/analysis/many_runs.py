@@ -1,0 +1,195 @@
+"""Many runs at once: a long table, a folder or Run records -> one summary row per run.
+
+This is the one analysis path (:func:`vpkit.engine.analyze_stack`) called on
+all runs at once, in blocks of runs with similar numbers of points so that
+memory and time grow linearly. A run that cannot be read or analysed keeps
+its row, with the reason in ``status``; nothing is skipped silently. The same
+numbers as :func:`vpkit.analyze` come out, because it is the same code.
+
+Functions take and return pandas DataFrames partitioned by run, so the same
+code runs per partition under Dask (``map_partitions``). The long-table layout
+is described in :mod:`vpkit.table`.
+
+References
+----------
+Equations: see :mod:`vpkit.engine` and the modules it names.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..record.assemble import stack_runs
+from ..record.longtable import LoadResult, read_runs, stack_table, table_to_runs
+from ..record.run import Run
+from ..record.stack import RunStack
+from .choices import Choices
+from .engine import StackResult, analyze_stack
+from .one_run import Analysis
+from .result_tables import RESULT_COLUMNS, results_table
+
+
+@dataclass(frozen=True)
+class ManyResult:
+    """The analysis of many runs: block results, the summary, and what failed.
+
+    Attributes
+    ----------
+    summary : DataFrame
+        One row per run, in input order (see :func:`vpkit.tables.results_table`),
+        including runs that could not be read or analysed (reason in ``status``).
+    choices : Choices
+    blocks : tuple of (ndarray, StackResult)
+        Positions in the input stack and the result of each block (empty when
+        the results were not kept).
+    failed : tuple of (str, str)
+        Runs that could not be read: file or run id, and why.
+    runs : mapping run_id -> Run
+    sessions : mapping run_id -> str
+        Session files applied (folders of run files).
+    paths : mapping run_id -> Path
+        The run file of each run (folders of run files).
+    """
+
+    summary: pd.DataFrame
+    choices: Choices
+    blocks: tuple = field(repr=False, default=())
+    failed: tuple = ()
+    runs: Mapping[str, Run] = field(default_factory=dict, repr=False)
+    sessions: Mapping[str, str] = field(default_factory=dict, repr=False)
+    paths: Mapping[str, object] = field(default_factory=dict, repr=False)
+
+    def _where(self, run_id: str) -> tuple[StackResult, int]:
+        for _, res in self.blocks:
+            if run_id in res.stack.run_ids:
+                return res, res.stack.run_ids.index(run_id)
+        raise KeyError(run_id)
+
+    def analysis(self, run_id: str) -> Analysis:
+        """The single-run view of ``run_id`` (the same numbers as the summary row)."""
+        res, r = self._where(run_id)
+        if res.errors[r] is not None:
+            raise res.errors[r]
+        run = self.runs.get(run_id)
+        if run is None:
+            raise KeyError(f"no run record kept for {run_id!r}")
+        return Analysis(run, res, r, self.choices.as_options())
+
+    def analyses(self) -> dict[str, Analysis]:
+        """Every run that was analysed, by id."""
+        out = {}
+        for _, res in self.blocks:
+            for r, rid in enumerate(res.stack.run_ids):
+                if res.errors[r] is None and rid in self.runs:
+                    out[rid] = Analysis(self.runs[rid], res, r, self.choices.as_options())
+        return out
+
+
+def analyze_stack_in_blocks(stack: RunStack, choices: Choices, *, chunk_runs: int = 2048,
+                            keep: bool = True) -> tuple[pd.DataFrame, tuple]:
+    """Analyse a stack block by block; the summary in stack order, and the blocks kept."""
+    order = np.argsort(stack.n_points, kind="stable")
+    tables, blocks = [], []
+    for start in range(0, stack.R, chunk_runs):
+        idx = np.sort(order[start:start + chunk_runs])
+        res = analyze_stack(stack.take(idx), choices)
+        tab = results_table(res)
+        tab.index = idx
+        tables.append(tab)
+        if keep:
+            blocks.append((idx, res))
+    if not tables:
+        return results_table_empty(), ()
+    return pd.concat(tables).sort_index().reset_index(drop=True), tuple(blocks)
+
+
+def results_table_empty() -> pd.DataFrame:
+    return pd.DataFrame(columns=summary_columns())
+
+
+def summary_columns() -> list[str]:
+    """Columns of the summary table (the results table's, in order)."""
+    return list(RESULT_COLUMNS)
+
+
+def _with_failures(summary: pd.DataFrame, failed, order_ids=None) -> pd.DataFrame:
+    if not failed:
+        return summary
+    rows = pd.DataFrame({"run_id": [rid for rid, _ in failed],
+                         "status": [f"not read: {msg}" for _, msg in failed]})
+    out = pd.concat([summary, rows], ignore_index=True) if len(summary) else rows.reindex(
+        columns=summary_columns())
+    if order_ids is not None:
+        pos = {rid: k for k, rid in enumerate(order_ids)}
+        out = out.iloc[np.argsort([pos.get(r, len(pos)) for r in out["run_id"]],
+                                  kind="stable")].reset_index(drop=True)
+    return out
+
+
+def analyze_many(source, *, chunk_runs: int = 2048, keep: bool = True, sessions: bool = True,
+                 **options) -> ManyResult:
+    """Analyse a folder of run files, a long-table CSV or DataFrame, or Run records.
+
+    ``options`` are those of :func:`vpkit.analyze` (model, weighting, air_from,
+    ..., thresholds); they mean the same here (:mod:`vpkit.choices`).
+    """
+    choices = Choices(**options)
+    runs: Mapping[str, Run] = {}
+    failed: tuple = ()
+    order = None
+    applied: Mapping[str, str] = {}
+    paths: Mapping[str, object] = {}
+    if isinstance(source, pd.DataFrame):
+        stack, bad = stack_table(source)
+        failed = tuple((rid, str(e)) for rid, e in bad)
+        order = (list(pd.unique(source["run_id"].astype(str).to_numpy())) if failed
+                 else None)
+        if keep and stack.R <= 2000:
+            runs = table_to_runs(source, stack.run_ids)
+    elif isinstance(source, Mapping) or (isinstance(source, Iterable)
+                                          and not isinstance(source, (str, bytes))
+                                          and not hasattr(source, "is_dir")):
+        runs = dict(source) if isinstance(source, Mapping) else {
+            f"run{i + 1}": r for i, r in enumerate(source)}
+        stack, bad = stack_runs(runs, strict=False)
+        failed = tuple((rid, str(e)) for rid, e in bad)
+        order = list(runs)
+    else:
+        load: LoadResult = read_runs(source, sessions=sessions)
+        stack, failed, runs, applied = load.stack, load.failed, dict(load.runs), load.sessions
+        paths = dict(load.paths)
+    summary, blocks = analyze_stack_in_blocks(stack, choices, chunk_runs=chunk_runs, keep=keep)
+    return ManyResult(_with_failures(summary, failed, order), choices, blocks, failed, runs,
+                      applied, paths)
+
+
+def analyze_table(table: pd.DataFrame, *, chunk_runs: int = 2048, **options) -> pd.DataFrame:
+    """Analyse every run of a long table: one summary row per run (input order).
+
+    Parameters
+    ----------
+    table : DataFrame
+        Long table (see :mod:`vpkit.table`); all rows of each run present.
+    chunk_runs : int
+        Runs per block of array work (memory about 40 kB per run of 8 points).
+    **options
+        As for :func:`vpkit.analyze` (model, weighting, air_from,
+        vapor_at_air_reference, use_head, gas_mass, reference, thresholds, ...).
+
+    Returns
+    -------
+    DataFrame
+        See :func:`vpkit.tables.results_table`; ``flags`` and ``flag reasons``
+        hold the findings of :mod:`vpkit.checks`, ``status`` why a run was not
+        analysed.
+    """
+    return analyze_many(table, chunk_runs=chunk_runs, keep=False, **options).summary
+
+
+def analyze_runs(runs: Mapping[str, Run] | Iterable[Run], **options) -> pd.DataFrame:
+    """:func:`analyze_table` for Run records (dict run_id -> Run, or a list)."""
+    return analyze_many(runs, keep=False, **options).summary

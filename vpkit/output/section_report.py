@@ -1,0 +1,220 @@
+"""The report of many runs: self-contained HTML, Markdown and the summary CSV.
+
+A renderer only: :func:`write_batch_report` formats a
+:class:`vpkit.batch.ManyResult` it is handed (its summary table, its per-run
+analyses for the figures) and never runs an analysis, so the table and the
+figures cannot disagree. Numbers are rounded by :mod:`vpkit.display`.
+"""
+
+from __future__ import annotations
+
+import base64
+import datetime as _dt
+import html
+import io
+import re
+from pathlib import Path
+
+import numpy as np
+
+from . import display as D
+from .figures import overview_figure
+from .run_summary import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
+
+#: Columns shown in the report's summary table, with how each is rounded.
+SUMMARY_COLUMNS = ["run_id", "liquid", "points used", "points total", "T_min [degC]",
+                   "T_max [degC]", "ΔH_vap [kJ/mol]", "reference ΔH_vap at T_m [kJ/mol]",
+                   "deviation from reference [u]", "T_b at 101.325 kPa [degC]",
+                   "T_b bias at 101.325 kPa [K]", "measured - predicted T_b [K]",
+                   "true ΔvapH at T_m [kJ/mol]", "published ΔvapH at T_m [kJ/mol]",
+                   "ΔS_vap at T_b [J/(mol K)]", "reduced chi2", "u(ΔH_vap) mostly from",
+                   "flags", "status"]
+
+
+def methods_paragraph(many) -> str:
+    """A methods paragraph generated from the choices and results actually used."""
+    c = many.choices
+    s = many.summary
+    ok = s[s["status"].fillna("") == ""]
+    modes = sorted(set(ok["p_vap at air reference"].dropna()))
+    vap = "; ".join(VAPOR_TEXT.get(m, m) for m in modes) or "not needed"
+    refs = sorted(set(x for x in ok["reference"].dropna() if x))
+    n_depth = sum(1 for r in many.runs.values() if r.entry("bubble_depth") is not None)
+    head = ("the hydrostatic head of the bubble depth was added to the barometric pressure "
+            f"for the {n_depth} run(s) that record a depth") if c.use_head \
+        else "no hydrostatic head was applied"
+    n_excl = int((ok["points total"] - ok["points used"]).sum()) if len(ok) else 0
+    sessions = len(getattr(many, "sessions", {}) or {})
+    return (
+        f"Vapor pressures of {len(ok)} run(s) were obtained with the trapped-bubble method "
+        "by subtracting the partial pressure of the trapped air from the total pressure on the "
+        "gas (Dalton's law, ideal gas). Gas volumes were corrected for the volume below the "
+        "zero mark, calibrated from the weighing (the trapped gas's own mass "
+        f"{'included' if c.gas_mass else 'ignored'}); {head}. The air amount came from "
+        f"{AIR_TEXT[c.air_from]}, with the vapor pressure at the air-reference temperature "
+        f"{vap}."
+        + (" The liquid floated on water touching the bubble, so the saturation pressure of "
+           "water (IAPWS-95) was subtracted as well, at every point and at the air "
+           "reference." if c.water_layer else "")
+        + f" ΔH_vap was obtained from a {ok['model'].iloc[0] if len(ok) else c.model} fit "
+        f"of ln p against T by {WEIGHT_TEXT[c.weighting]}; it is the apparent value (ideal "
+        "vapor, liquid volume neglected) at T_m, the mean of 1/T weighted as the fit weighs "
+        "the points. The true ΔvapH is the apparent value times Δz = 1 + p(B − V_l)/(RT), "
+        "with the second virial coefficient B from the Tsonopoulos correlation and the "
+        "liquid molar volume V_l, compared with PPDS equation 12 of the VDI Heat Atlas; "
+        "ΔS_vap at the normal boiling point is the true ΔvapH there over T_b. The model's "
+        "extrapolation bias of T_b is the same fit made to the published curve at the run's "
+        "temperatures, minus where the curve boils. Uncertainties are standard "
+        "uncertainties from linear propagation of the reading, thermometer, barometer, balance "
+        "and density uncertainties; the parameter covariance was scaled by the reduced χ² "
+        "where χ² exceeded its 95th percentile. Reference equations: "
+        f"{'; '.join(refs) if refs else 'none'}. {n_excl} point(s) were left out of the fits "
+        "(by the analysts or automatically), each with the reason listed below"
+        + (f"; exclusions saved in {sessions} session file(s) were applied." if sessions
+           else "."))
+
+
+def _cell(col: str, value) -> str:
+    """One summary cell as text, by the rounding rule."""
+    if isinstance(value, (float, np.floating)):
+        if not np.isfinite(value):
+            return ""
+        if col in ("points used", "points total"):
+            return f"{int(value)}"
+        if "[u]" in col:
+            return D.signed(value, "", 1)
+        return D.number(value, "", 4)
+    return str(value)
+
+
+def _rows(summary):
+    for _, row in summary[SUMMARY_COLUMNS].iterrows():
+        yield [_cell(c, row[c]) for c in SUMMARY_COLUMNS]
+
+
+def _png(fig, dpi=150) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=dpi)
+    return buf.getvalue()
+
+
+def _safe(name: str) -> str:
+    """A file-name-safe version of a run id."""
+    return re.sub(r"[^A-Za-z0-9._-]+", "_", str(name))[:80] or "run"
+
+
+def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
+                       max_run_figures: int = 60) -> dict:
+    """Write ``report.html``, ``report.md``, ``summary.csv`` and figures for ``many``.
+
+    Parameters
+    ----------
+    many : vpkit.batch.ManyResult
+    out_dir : path
+    max_run_figures : int
+        One figure per run up to this many runs; beyond it, flagged runs only.
+
+    Returns
+    -------
+    dict of paths, plus ``summary`` (the DataFrame) and ``failed``.
+    """
+    out = Path(out_dir)
+    (out / "figures").mkdir(parents=True, exist_ok=True)
+    summary = many.summary
+    summary.to_csv(out / "summary.csv", index=False, float_format=CSV_FLOAT)
+    ok = summary[summary["status"].fillna("") == ""]
+    over = _png(overview_figure(ok))
+    (out / "figures" / "overview.png").write_bytes(over)
+    flagged = ok[ok["flags"] != ""]
+    wanted = list(ok["run_id"]) if len(ok) <= max_run_figures else list(flagged["run_id"])
+    analyses = many.analyses()
+    run_figs = {rid: _png(analyses[rid].figure(width_mm=120)) for rid in wanted
+                if rid in analyses}
+    for rid, png in run_figs.items():
+        (out / "figures" / f"{_safe(rid)}.png").write_bytes(png)
+    not_analysed = summary[summary["status"].fillna("") != ""]
+    exclusions = [(rid, i, a.reasons[i] or "no reason given", a.T[i] - 273.15)
+                  for rid, a in analyses.items() for i in range(a.n) if not a.include[i]]
+    methods = methods_paragraph(many)
+    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    parts = _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions,
+                  run_figs)
+    html_path = out / "report.html"
+    html_path.write_text("\n".join(parts), encoding="utf-8")
+    md_path = out / "report.md"
+    md_path.write_text(_markdown(title, stamp, methods, summary, flagged, not_analysed,
+                                 exclusions, run_figs), encoding="utf-8")
+    return {"html": html_path, "markdown": md_path, "summary_csv": out / "summary.csv",
+            "summary": summary, "failed": many.failed}
+
+
+def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions, run_figs):
+    e = html.escape
+
+    def img(png: bytes, alt: str) -> str:
+        return (f'<img alt="{e(alt)}" style="max-width:100%" '
+                f'src="data:image/png;base64,{base64.b64encode(png).decode()}">')
+
+    head = "".join(f"<th>{e(c)}</th>" for c in SUMMARY_COLUMNS)
+    body = "".join("<tr>" + "".join(f"<td>{e(v)}</td>" for v in row) + "</tr>"
+                   for row in _rows(summary))
+    parts = [
+        "<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
+        f"<title>{e(title)}</title><style>{_CSS}</style></head><body>",
+        f"<h1>{e(title)}</h1><p>Generated by vpkit on {e(stamp)}.</p>",
+        f"<p class='safety'>{e(SAFETY_NOTE)}</p>",
+        f"<h2>Methods</h2><p>{e(methods)}</p>",
+        "<h2>Summary</h2>", f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>",
+        "<p><small>Numbers rounded to four significant digits for display; summary.csv keeps "
+        "full precision.</small></p>",
+        "<h2>Overview</h2>", img(over, "ΔH_vap of every run against the reference"),
+        "<h2>Runs that need a second look</h2>",
+    ]
+    if len(flagged):
+        parts.append("<ul>" + "".join(
+            f"<li><b>{e(str(r['run_id']))}</b> ({e(str(r['liquid']))}): "
+            f"{e(str(r['flag reasons']))}</li>" for _, r in flagged.iterrows()) + "</ul>")
+    else:
+        parts.append("<p>None.</p>")
+    if len(not_analysed):
+        parts.append("<h2>Runs not analysed</h2><ul>" + "".join(
+            f"<li>{e(str(r['run_id']))}: {e(str(r['status']))}</li>"
+            for _, r in not_analysed.iterrows()) + "</ul>")
+    parts.append("<h2>Excluded points</h2>")
+    parts.append("<ul>" + "".join(f"<li>{e(rid)}, point {i} ({t:.2f} °C): {e(why)}</li>"
+                                  for rid, i, why, t in exclusions) + "</ul>"
+                 if exclusions else "<p>None.</p>")
+    parts.append("<h2>Runs</h2>")
+    for rid, png in run_figs.items():
+        parts.append(f"<h3>{e(rid)}</h3>" + img(png, f"run {rid}"))
+    parts.append("</body></html>")
+    return parts
+
+
+def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions, run_figs):
+    md = [f"# {md_text(title)}", "", f"Generated by vpkit on {stamp}.", "",
+          f"> {SAFETY_NOTE}", "", "## Methods", "", md_text(methods), "", "## Summary", ""]
+    md.append("| " + " | ".join(md_text(c) for c in SUMMARY_COLUMNS) + " |")
+    md.append("|" + "---|" * len(SUMMARY_COLUMNS))
+    md += ["| " + " | ".join(md_text(v) for v in row) + " |" for row in _rows(summary)]
+    md += ["", "## Overview", "", "![overview](figures/overview.png)", "",
+           "## Runs that need a second look", ""]
+    md += [f"- **{md_text(r['run_id'])}** ({md_text(r['liquid'])}): {md_text(r['flag reasons'])}"
+           for _, r in flagged.iterrows()] or ["None."]
+    if len(not_analysed):
+        md += ["", "## Runs not analysed", ""]
+        md += [f"- {md_text(r['run_id'])}: {md_text(r['status'])}"
+               for _, r in not_analysed.iterrows()]
+    md += ["", "## Excluded points", ""]
+    md += [f"- {md_text(rid)}, point {i} ({t:.2f} °C): {md_text(why)}"
+           for rid, i, why, t in exclusions] or ["None."]
+    md += ["", "## Runs", ""]
+    for rid in run_figs:
+        md += [f"### {md_text(rid)}", "", f"![{md_text(rid)}](figures/{_safe(rid)}.png)", ""]
+    return "\n".join(md) + "\n"
+
+
+_CSS = ("body{font-family:sans-serif;max-width:1100px;margin:2em auto;padding:0 1em}"
+        "table{border-collapse:collapse;font-size:0.85em}"
+        "td,th{border:1px solid #ccc;padding:2px 6px;text-align:right}"
+        ".safety{border-left:4px solid #c60;padding:0.5em 1em;background:#fff6ec}")
