@@ -2,7 +2,7 @@
 
 For 10,000 invented runs of 6-8 points, end to end (a long table already in
 memory -> the summary with flags), prints the median time of the many-run path
-(`vpkit.batch.analyze_table`), the time the single-run path (`vpkit.analyze` in a
+(`vpkit.analysis.many_runs.analyze_table`), the time the single-run path (`vpkit.analyze` in a
 loop) would take (measured on a sample and scaled), and their ratio; the same
 for the constant-ΔCp model; then peak memory and time for 100,000 runs (done in
 blocks) and how time grows from 1,000 to 100,000 runs.
@@ -38,7 +38,7 @@ LIQUIDS = ["ethanol", "water", "toluene", "2-propanol"]
 def simulated_table(n_runs: int, seed: int = 0) -> pd.DataFrame:
     """A long table of n_runs noisy runs of 6-8 points (invented), from the forward model.
 
-    Uses vpkit.simulate.forward_readings on arrays (the same forward model as
+    Uses vpkit.physics.simulate.forward_readings on arrays (the same forward model as
     simulate_run), so that building 100,000 runs takes seconds.
     """
     rng = np.random.default_rng(seed)

@@ -1,7 +1,7 @@
 """Command line: ``python -m vpkit analyze RUN_FILE --out DIR`` and ``... report SOURCE``.
 
 Both commands take the same analysis options, with the same meanings
-(:mod:`vpkit.choices`), and both apply a run file's saved session (its
+(:mod:`vpkit.analysis.choices`), and both apply a run file's saved session (its
 exclusions) unless ``--ignore-session`` is given; each says which session and
 which reference equation it used.
 """
@@ -70,7 +70,7 @@ def _floats(text: str) -> list[float]:
 
 
 def _plan_options(p) -> None:
-    p.add_argument("liquid", help="a bundled liquid (see vpkit.reference.liquids())")
+    p.add_argument("liquid", help="a bundled liquid (see vpkit.physics.liquids.liquids())")
     p.add_argument("--bubble", type=float, default=2.0, help="gas volume at the room "
                    "reading [mL] (default 2)")
     p.add_argument("--from", dest="t_from", type=float, default=25.0,

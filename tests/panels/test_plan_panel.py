@@ -1,4 +1,4 @@
-"""Headless test of the planner panel: every readout equals vpkit.planner.predict for the
+"""Headless test of the planner panel: every readout equals vpkit.planning.planner.predict for the
 plan the sliders describe (the panel does no physics; common practice, no source)."""
 
 import numpy as np

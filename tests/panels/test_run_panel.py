@@ -38,7 +38,7 @@ def test_core_import_does_not_pull_widgets():
 
 def test_readouts_equal_core_after_checkbox_toggle(run_file):
     p = explore(run_file)
-    cb, _, _ = p._point_rows[3]
+    cb, _, _ = p.points.rows[3]
     cb.value = False  # what a user's click on the checkbox does
     expected = vpkit.analyze(vpkit.read_run(run_file), exclude={3: "excluded in the explorer"})
     r = p.readouts()
@@ -209,7 +209,7 @@ def test_explorer_details(run_file, tmp_path, monkeypatch):
     work.mkdir()
     monkeypatch.chdir(work)
     p = explore(run_file, canvas="static")
-    cb, _, _ = p._point_rows[0]
+    cb, _, _ = p.points.rows[0]
     assert f"(line {p.run.row_of(0)})" in cb.description
     p.toggle(2, "bubble escaped")
     p.toggle(2)

@@ -63,7 +63,7 @@ def _analyze(liquid, model="clausius_clapeyron"):
 def test_trouton_verdict_and_entropy_at_the_boiling_point(liquid):
     """Measured when written: within 1.1 J/(mol K) for every liquid but methanol, whose
     vapor associates beyond the second virial coefficient (+2.6 against u = 3.9; see
-    vpkit.nonideal): for methanol the check is 2u."""
+    vpkit.physics.nonideal): for methanol the check is 2u."""
     a, _, dS = _analyze(liquid)
     r = a.results().iloc[0]
     tol = 2 * r["u(ΔS_vap) [J/(mol K)]"] if liquid == "methanol" else 2.0

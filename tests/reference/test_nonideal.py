@@ -13,7 +13,7 @@ sources:
 Criterion (issue "scientific truth"): the true ΔvapH of a noise-free run within 1 % of
 CoolProp's h'' - h' at the same temperature. Methanol's vapor associates beyond B: its
 B-only correction leaves the true value 1.1-2 % high, inside the widened uncertainty
-stated in vpkit.nonideal, and that is what its test checks.
+stated in vpkit.physics.nonideal, and that is what its test checks.
 """
 
 import numpy as np

@@ -403,7 +403,7 @@ def test_mm_hg_torr_and_utf16(tmp_path):
                                               ("barometric_pressure", "3.7e5", "bar"),
                                               ("mass_before_air", "1e300", "g")])
 def test_values_no_measurement_can_have_are_refused_at_the_edge(entry, value, unit):
-    """Hard limits (common practice, no source; vpkit.validate.LIMITS): such values are
+    """Hard limits (common practice, no source; vpkit.record.validate.LIMITS): such values are
     slips, and would only overflow the equations."""
     import re
 

@@ -1,11 +1,11 @@
 """The uncertainty budget: how much each input adds to u(ΔH_vap), u(T_b) and u(true ΔvapH).
 
-For every run of a :class:`~vpkit.engine.StackResult`, the sensitivity of a
+For every run of a :class:`~vpkit.analysis.engine.StackResult`, the sensitivity of a
 result q to input k is the chain rule through the one analysis path
 
     s_qk = g_qᵀ M (J - D)[:, k],
 
-with J = d ln p/d inputs (:func:`vpkit.propagate.jacobian`, the self-consistent
+with J = d ln p/d inputs (:func:`vpkit.physics.propagate.jacobian`, the self-consistent
 air amount included), D the fitted curve's slope f'(T_i) on each point's own
 bath temperature (a thermometer error moves the point along T as well as in
 ln p: the effective-variance view), M = (AᵀWA)⁻¹AᵀW the estimator of the fit
@@ -19,7 +19,7 @@ with no cross terms, and a group's contribution is the sum of its inputs'. The
 sum equals the u(q) the analysis reports, before the χ² scaling; where the
 covariance was scaled, every contribution is scaled by the same factor (the
 shares do not change). The true ΔvapH adds one more, independent term, the
-second virial coefficient (:mod:`vpkit.nonideal`).
+second virial coefficient (:mod:`vpkit.physics.nonideal`).
 
 "What if" halves one input's (or group's) uncertainty: u_new² = u² - ¾ c², c
 that input's contribution (linear propagation; the fit's weights kept).

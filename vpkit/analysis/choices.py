@@ -10,12 +10,12 @@ entry point calls these two, so ``"auto"`` means the same everywhere:
   has one, else self-consistent with the fit (``"fit"``);
 - ``reference="auto"``: IAPWS-95 for water, the bundled PPDS equation for
   2-propanol and 1-butanol, the Antoine set for the other liquids
-  (:func:`vpkit.reference.reference_curve`).
+  (:func:`vpkit.physics.curves.reference_curve`).
 
 References
 ----------
-See :mod:`vpkit.reduce` (air-amount methods, METHOD 2.3) and
-:mod:`vpkit.reference` (equations and their sources).
+See :mod:`vpkit.physics.reduce` (air-amount methods, METHOD 2.3) and
+:mod:`vpkit.physics.liquids` (equations and their sources).
 """
 
 from __future__ import annotations

@@ -1,7 +1,7 @@
 """Results derived from a fit beyond its own parameters, for R runs at once.
 
 * :func:`true_enthalpy`: the true ΔvapH from the apparent one (Clapeyron
-  equation, :mod:`vpkit.nonideal`), with the correction's own uncertainty, and
+  equation, :mod:`vpkit.physics.nonideal`), with the correction's own uncertainty, and
   the published ΔvapH to compare it with.
 * :func:`entropy_at_boiling`: ΔS_vap = ΔvapH(T_b)/T_b at the boiling point, the
   quantity of Trouton's rule [1]. The apparent ΔH is carried from where it was

@@ -4,14 +4,14 @@
 the input uncertainties, solves the self-consistent air amount where it is
 asked for, fits the model, derives ΔH_vap, boiling points and ΔS_vap, compares
 with the published curves and runs the checks, for R runs at once.
-:func:`vpkit.analyze` is this call with R = 1; :func:`vpkit.batch.analyze_table`
+:func:`vpkit.analyze` is this call with R = 1; :func:`vpkit.analysis.many_runs.analyze_table`
 is the same call on R runs.
 
 References
 ----------
-Equations: :mod:`vpkit.reduce` (reduction), :mod:`vpkit.propagate` (GUM
-propagation), :mod:`vpkit.fit` and :mod:`vpkit.models` (fits),
-:mod:`vpkit.reference` (published curves). The self-consistent air amount
+Equations: :mod:`vpkit.physics.reduce` (reduction), :mod:`vpkit.physics.propagate` (GUM
+propagation), :mod:`vpkit.fitting.fit` and :mod:`vpkit.fitting.models` (fits),
+:mod:`vpkit.physics.liquids` (published curves). The self-consistent air amount
 solves p = g(p), g the fitted curve at the air-reference temperature
 (METHOD 2.3 b/c), by secant steps with a bisection fallback; its uncertainty
 follows from the implicit-function theorem, dp/du = (dg/du)/(1 - dg/dp).
@@ -71,19 +71,19 @@ class StackResult:
         Apparent ΔH_vap at T_m [J/mol], boiling points at the run's pressure and
         at 101.325 kPa [K].
     true_enthalpy, u_true_enthalpy, delta_z, reference_true_enthalpy : ndarray (R,)
-        True ΔvapH at T_m [J/mol] (:func:`vpkit.derived.true_enthalpy`), the factor
+        True ΔvapH at T_m [J/mol] (:func:`vpkit.analysis.derived.true_enthalpy`), the factor
         Δz used, and the published ΔvapH at T_m (NaN where none is bundled).
     entropy, u_entropy : ndarray (R,)
         ΔS_vap at the normal boiling point [J/(mol K)], from the true ΔvapH there
-        (:func:`vpkit.derived.entropy_at_boiling`, at T_b corrected for the
+        (:func:`vpkit.analysis.derived.entropy_at_boiling`, at T_b corrected for the
         model's bias where it is estimated); ``entropy_from`` says how ΔH was
         carried to T_b.
     bias_T_b_normal, u_bias_T_b_normal, bias_T_b_run, u_bias_T_b_run : ndarray (R,)
         The model's extrapolation bias of each boiling point [K] (fitted minus
-        true; :func:`vpkit.derived.boiling_point_bias`); ``bias_from`` says from
+        true; :func:`vpkit.analysis.derived.boiling_point_bias`); ``bias_from`` says from
         what (empty where not estimated).
     comparison : dict of ndarray
-        See :func:`vpkit.reference.compare_stack` (NaN without a curve).
+        See :func:`vpkit.analysis.comparison.compare_stack` (NaN without a curve).
     self_consistent_rounds : ndarray of int (R,)
         Rounds of the self-consistent air amount (0 where not used);
         ``self_consistent_error`` the final relative mismatch |g(p) - p|/p.

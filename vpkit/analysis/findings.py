@@ -1,11 +1,11 @@
 """The checks a careful analyst makes of every run, with the number that triggered each.
 
 :func:`run_checks` evaluates every check on all runs of a
-:class:`~vpkit.engine.StackResult` at once and returns, per run, the
+:class:`~vpkit.analysis.engine.StackResult` at once and returns, per run, the
 :class:`Finding` objects that fired. The single-run warnings
 (``Analysis.warnings``) and the many-run flags (``flags`` and ``flag reasons``
 of the summary) are the same findings. Thresholds are
-:data:`vpkit.choices.DEFAULT_THRESHOLDS` (all common practice, no source).
+:data:`vpkit.analysis.choices.DEFAULT_THRESHOLDS` (all common practice, no source).
 
 References
 ----------

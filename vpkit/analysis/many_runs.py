@@ -1,6 +1,6 @@
 """Many runs at once: a long table, a folder or Run records -> one summary row per run.
 
-This is the one analysis path (:func:`vpkit.engine.analyze_stack`) called on
+This is the one analysis path (:func:`vpkit.analysis.engine.analyze_stack`) called on
 all runs at once, in blocks of runs with similar numbers of points so that
 memory and time grow linearly. A run that cannot be read or analysed keeps
 its row, with the reason in ``status``; nothing is skipped silently. The same
@@ -8,11 +8,11 @@ numbers as :func:`vpkit.analyze` come out, because it is the same code.
 
 Functions take and return pandas DataFrames partitioned by run, so the same
 code runs per partition under Dask (``map_partitions``). The long-table layout
-is described in :mod:`vpkit.table`.
+is described in :mod:`vpkit.record.longtable`.
 
 References
 ----------
-Equations: see :mod:`vpkit.engine` and the modules it names.
+Equations: see :mod:`vpkit.analysis.engine` and the modules it names.
 """
 
 from __future__ import annotations
@@ -40,7 +40,7 @@ class ManyResult:
     Attributes
     ----------
     summary : DataFrame
-        One row per run, in input order (see :func:`vpkit.tables.results_table`),
+        One row per run, in input order (see :func:`vpkit.analysis.result_tables.results_table`),
         including runs that could not be read or analysed (reason in ``status``).
     choices : Choices
     blocks : tuple of (ndarray, StackResult)
@@ -135,7 +135,7 @@ def analyze_many(source, *, chunk_runs: int = 2048, keep: bool = True, sessions:
     """Analyse a folder of run files, a long-table CSV or DataFrame, or Run records.
 
     ``options`` are those of :func:`vpkit.analyze` (model, weighting, air_from,
-    ..., thresholds); they mean the same here (:mod:`vpkit.choices`).
+    ..., thresholds); they mean the same here (:mod:`vpkit.analysis.choices`).
     """
     choices = Choices(**options)
     runs: Mapping[str, Run] = {}
@@ -173,7 +173,7 @@ def analyze_table(table: pd.DataFrame, *, chunk_runs: int = 2048, **options) -> 
     Parameters
     ----------
     table : DataFrame
-        Long table (see :mod:`vpkit.table`); all rows of each run present.
+        Long table (see :mod:`vpkit.record.longtable`); all rows of each run present.
     chunk_runs : int
         Runs per block of array work (memory about 40 kB per run of 8 points).
     **options
@@ -183,8 +183,8 @@ def analyze_table(table: pd.DataFrame, *, chunk_runs: int = 2048, **options) -> 
     Returns
     -------
     DataFrame
-        See :func:`vpkit.tables.results_table`; ``flags`` and ``flag reasons``
-        hold the findings of :mod:`vpkit.checks`, ``status`` why a run was not
+        See :func:`vpkit.analysis.result_tables.results_table`; ``flags`` and ``flag reasons``
+        hold the findings of :mod:`vpkit.analysis.findings`, ``status`` why a run was not
         analysed.
     """
     return analyze_many(table, chunk_runs=chunk_runs, keep=False, **options).summary

@@ -1,15 +1,15 @@
 """The whole job for one run: :func:`analyze` -> :class:`Analysis`.
 
 :func:`analyze` stacks the run (a stack of one), calls the one analysis path
-(:func:`vpkit.engine.analyze_stack`) and wraps the result. :class:`Analysis`
-is a frozen view of one run of a :class:`~vpkit.engine.StackResult`, so an
+(:func:`vpkit.analysis.engine.analyze_stack`) and wraps the result. :class:`Analysis`
+is a frozen view of one run of a :class:`~vpkit.analysis.engine.StackResult`, so an
 analysis taken from a many-run result (a report, the overview panel) is the
 same object with the same numbers. Tables, the summary text and the figure
 are renderings of it.
 
 References
 ----------
-See :mod:`vpkit.engine` and the modules it names for the equations and their
+See :mod:`vpkit.analysis.engine` and the modules it names for the equations and their
 sources; Monte Carlo: JCGM 101:2008 (GUM Supplement 1).
 """
 
@@ -195,13 +195,14 @@ class Analysis:
         return results_table(self.result, rows=[self.index])
 
     def summary(self, shifts: bool = True) -> str:
-        """Markdown summary of the run's results (see :func:`vpkit.report.summary_markdown`)."""
+        """Markdown summary of the run's results (see
+        :func:`vpkit.output.run_summary.summary_markdown`)."""
         from ..output.run_summary import summary_markdown
 
         return summary_markdown(self, shifts=self.choice_shifts() if shifts else None)
 
     def figure(self, width_mm: float = 85.0, **kwargs):
-        """Report figure (matplotlib Figure); see :func:`vpkit.plots.run_figure`."""
+        """Report figure (matplotlib Figure); see :func:`vpkit.output.figures.run_figure`."""
         from ..output.figures import run_figure
 
         return run_figure(self, width_mm=width_mm, **kwargs)
@@ -224,7 +225,7 @@ class Analysis:
         return monte_carlo(self, draws, seed, inputs)
 
     def budget(self) -> pd.DataFrame:
-        """The uncertainty budget (:func:`vpkit.budget.budget_table`): each input group's
+        """The uncertainty budget (:func:`vpkit.analysis.budget.budget_table`): each input group's
         contribution to u(ΔH_vap), u(T_b) and u(true ΔvapH), its share, and u if halved."""
         from .budget import budget_table
 
@@ -325,7 +326,7 @@ def analyze(
         p_vap at the air-reference temperature: from the published equation,
         self-consistent with the fitted curve, or neglected. "auto" takes the
         published equation when the liquid has one, else "fit" (see
-        :mod:`vpkit.choices`). The self-consistent choice extrapolates the
+        :mod:`vpkit.analysis.choices`). The self-consistent choice extrapolates the
         fitted model to the air reference temperature; near room temperature
         that amplifies both noise and any model error (for 25-60 degC data and
         a room-temperature weighing, about a factor 100), so it is the
@@ -347,9 +348,9 @@ def analyze(
         Fold the thermometer's uncertainty into the fit (effective variance).
     water_layer : bool
         The liquid floats on water that touches the bubble too: subtract water's
-        vapor pressure (IAPWS-95) as well (see :class:`vpkit.choices.Choices`).
+        vapor pressure (IAPWS-95) as well (see :class:`vpkit.analysis.choices.Choices`).
     thresholds : mapping, optional
-        Overrides of :data:`vpkit.choices.DEFAULT_THRESHOLDS` for the checks.
+        Overrides of :data:`vpkit.analysis.choices.DEFAULT_THRESHOLDS` for the checks.
     warn : bool
         Also emit each warning as a :class:`vpkit.VpkitWarning` subclass (they
         are always in ``Analysis.warnings``).

@@ -2,7 +2,7 @@
 
 :func:`results_table` gives one row per run of a stack result: it is the
 one-row table of :meth:`vpkit.Analysis.results` and the many-run summary of
-:func:`vpkit.batch.analyze_table` alike. :func:`points_table` is one run's
+:func:`vpkit.analysis.many_runs.analyze_table` alike. :func:`points_table` is one run's
 points. Full precision is kept (CSV files write it); rounding for display is
 :mod:`vpkit.display`'s job. Unit conversion from SI happens here (an edge).
 """

@@ -2,7 +2,7 @@
 
 :func:`fit_stack` fits R data sets at once (masks select each set's points);
 :func:`fit_points` is the same call for one set. Models live in
-:mod:`vpkit.models`, the batched algebra in :mod:`vpkit.lsq`.
+:mod:`vpkit.fitting.models`, the batched algebra in :mod:`vpkit.fitting.lsq`.
 
 Weighting: ``ordinary`` (unweighted, covariance from the scatter),
 ``weighted`` (diagonal of the residual covariance), ``gls`` (generalized least
@@ -85,7 +85,7 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
     Parameters
     ----------
     model : str or Model
-        One of :data:`vpkit.models.MODELS`.
+        One of :data:`vpkit.fitting.models.MODELS`.
     T, y : array_like, shape (R, N)
         Temperatures [K] and ln(p / Pa); values outside ``mask`` are ignored.
     mask : array_like of bool, shape (R, N), optional

@@ -1,11 +1,11 @@
 """The fit of one data set: values with uncertainties a user can carry on with.
 
 :class:`FitResult` is a read-only view of one row of a
-:class:`vpkit.fit.StackFit`; its ΔH_vap and boiling points are
+:class:`vpkit.fitting.results.StackFit`; its ΔH_vap and boiling points are
 ``uncertainties`` numbers correlated with the fitted parameters, built from the
 same values and gradients as the many-run table, so both agree exactly. ΔS_vap at
 the boiling point and the true ΔvapH need more than the fit (the published curve,
-the virial correction): they are :mod:`vpkit.derived`'s, read from the results.
+the virial correction): they are :mod:`vpkit.analysis.derived`'s, read from the results.
 
 References
 ----------

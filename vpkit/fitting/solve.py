@@ -3,13 +3,13 @@
 Linear models are solved by QR of the whitened design; the Antoine model by
 Levenberg-Marquardt from a profile start (several starts, the lowest converged
 cost kept). :func:`solve_stack` is the entry point for callers that reuse a
-fit's weights (Monte Carlo, the self-consistent air amount); :func:`vpkit.fit.fit_stack`
+fit's weights (Monte Carlo, the self-consistent air amount); :func:`vpkit.fitting.fit.fit_stack`
 calls the same solvers inside its effective-variance rounds.
 
 References
 ----------
-See :mod:`vpkit.lsq` (algebra, Levenberg-Marquardt after Moré 1978) and
-:mod:`vpkit.fit` (effective variance after Orear 1982).
+See :mod:`vpkit.fitting.lsq` (algebra, Levenberg-Marquardt after Moré 1978) and
+:mod:`vpkit.fitting.fit` (effective variance after Orear 1982).
 """
 
 from __future__ import annotations

@@ -154,7 +154,7 @@ def overview_figure(summary, width_mm: float = 175.0) -> Figure:
     Parameters
     ----------
     summary : DataFrame
-        From :func:`vpkit.batch.analyze_table`.
+        From :func:`vpkit.analysis.many_runs.analyze_table`.
     """
     st = _style(width_mm)
     liquids = list(dict.fromkeys(summary["liquid"]))

@@ -1,7 +1,7 @@
 """The report of many runs: self-contained HTML, Markdown and the summary CSV.
 
 A renderer only: :func:`write_batch_report` formats a
-:class:`vpkit.batch.ManyResult` it is handed (its summary table, its per-run
+:class:`vpkit.analysis.many_runs.ManyResult` it is handed (its summary table, its per-run
 analyses for the figures) and never runs an analysis, so the table and the
 figures cannot disagree. Numbers are rounded by :mod:`vpkit.display`.
 """
@@ -109,7 +109,7 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
 
     Parameters
     ----------
-    many : vpkit.batch.ManyResult
+    many : vpkit.analysis.many_runs.ManyResult
     out_dir : path
     max_run_figures : int
         One figure per run up to this many runs; beyond it, flagged runs only.

@@ -1,7 +1,7 @@
 """Overview of many runs: ΔH_vap of every run against the reference, a sortable
 table with flags, and a drill-down into the single-run explorer.
 
-The panel does no physics: it calls :func:`vpkit.batch.analyze_many` and
+The panel does no physics: it calls :func:`vpkit.analysis.many_runs.analyze_many` and
 opens :class:`vpkit.panels.RunPanel` for a selected run. Point exclusions made
 there are saved in that run's session file and come back into the summary on
 :meth:`OverviewPanel.refresh`. Numbers are shown by :mod:`vpkit.display`.
@@ -39,7 +39,7 @@ class OverviewPanel:
     Attributes
     ----------
     summary : DataFrame
-        One row per run (from :func:`vpkit.batch.analyze_many`).
+        One row per run (from :func:`vpkit.analysis.many_runs.analyze_many`).
     failed : tuple
         Runs that could not be read, with the reason.
     explorers : dict

@@ -1,8 +1,8 @@
 """The planner panel: sliders for bubble size, bath range and number of points, with the
 predicted u(ΔH_vap), u(T_b), bias, readings and warnings updating as they move.
 
-No physics here: every change builds a :class:`vpkit.planner.Plan` and calls
-:func:`vpkit.planner.predict` (the forward model and the one analysis path).
+No physics here: every change builds a :class:`vpkit.planning.planner.Plan` and calls
+:func:`vpkit.planning.planner.predict` (the forward model and the one analysis path).
 """
 
 from __future__ import annotations
@@ -29,7 +29,7 @@ def plan_panel(liquid: str, *, bubble_ml: float = 2.0, t_from: float = 25.0,
 
 
 class PlanPanel:
-    """Sliders -> :func:`vpkit.planner.predict` -> readouts (``widget`` is the panel)."""
+    """Sliders -> :func:`vpkit.planning.planner.predict` -> readouts (``widget`` is the panel)."""
 
     def __init__(self, liquid: str, *, bubble_ml: float = 2.0, t_from: float = 25.0,
                  t_to: float | None = None, points: int = 8) -> None:

@@ -9,21 +9,16 @@ References
    et les températures", C. R. Acad. Sci. 107, 681-684 (1888).
 .. [2] B. E. Poling, J. M. Prausnitz, J. P. O'Connell, "The Properties of Gases
    and Liquids", 5th ed., McGraw-Hill (2001), Appendix A (Antoine table).
-.. [3] VDI Heat Atlas, 2nd ed., Springer (2010), chapter D3.1: PPDS equation for
-   saturated-liquid density.
-.. [4] W. Wagner, A. Pruss, "The IAPWS formulation 1995 for the thermodynamic
+.. [3] W. Wagner, A. Pruss, "The IAPWS formulation 1995 for the thermodynamic
    properties of ordinary water substance for general and scientific use",
    J. Phys. Chem. Ref. Data 31, 387-535 (2002) (IAPWS-95): saturation pressures
    computed with the package ``iapws`` (J. J. Romera) every 0.5 K from
    273.16 K to 473.16 K and bundled as ``vpkit/physics/data/water_iapws95_psat.csv``;
    ln p is interpolated in 1/T by a cubic spline (error below 1e-10, checked
    against ``iapws`` in tests/reference/test_iapws95.py).
-.. [5] VDI Heat Atlas, 2nd ed., Springer (2010), chapter D3.1: PPDS equation 3
+.. [4] VDI Heat Atlas, 2nd ed., Springer (2010), chapter D3.1: PPDS equation 3
    for the saturation pressure, ln(p/P_c) = (T_c/T)(A τ + B τ^1.5 + C τ^2.5 + D τ^5),
-   τ = 1 - T/T_c (the form of W. Wagner, Cryogenics 13, 470-482 (1973)); and
-   PPDS equation 12 for the enthalpy of vaporization,
-   ΔvapH = R T_c (A τ^(1/3) + B τ^(2/3) + C τ + D τ² + E τ⁶), a correlation of
-   calorimetric and other measured values.
+   τ = 1 - T/T_c (the form of W. Wagner, Cryogenics 13, 470-482 (1973)).
 """
 
 from __future__ import annotations
@@ -145,7 +140,7 @@ def antoine_curve(liquid: str) -> ReferenceCurve:
 
 
 def _ppds_ln_p(T, coef, derivative: bool = False):
-    """PPDS equation 3 [5] (or its T derivative); NaN at and above T_c."""
+    """PPDS equation 3 [4] (or its T derivative); NaN at and above T_c."""
     T_c, P_c, A, B, C, D = coef
     T = np.asarray(T, float)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -159,7 +154,7 @@ def _ppds_ln_p(T, coef, derivative: bool = False):
 
 @functools.cache
 def ppds_curve(liquid: str) -> ReferenceCurve:
-    """The bundled PPDS vapor-pressure equation [5] for ``liquid``."""
+    """The bundled PPDS vapor-pressure equation [4] for ``liquid``."""
     name = canonical_name(liquid)
     hit = ppds_table()[ppds_table()["liquid"] == name]
     if hit.empty:
@@ -183,7 +178,7 @@ def _water_spline():
 
 
 def _water_ln_p(T, derivative: bool = False):
-    """IAPWS-95 ln p_sat (or its T derivative) from the bundled table [4].
+    """IAPWS-95 ln p_sat (or its T derivative) from the bundled table [3].
 
     Beyond the table (below the triple point or above 473.16 K) ln p is
     continued as a straight line in 1/T from the end node; the comparison and
@@ -202,7 +197,7 @@ def _water_ln_p(T, derivative: bool = False):
 
 @functools.cache
 def iapws95_curve() -> ReferenceCurve:
-    """Saturation pressure of water from IAPWS-95 (bundled table, see [4])."""
+    """Saturation pressure of water from IAPWS-95 (bundled table, see [3])."""
     return ReferenceCurve("water", "IAPWS-95", "Wagner & Pruss 2002 (IAPWS-95)", 273.16,
                           473.16, "iapws95", ())
 
@@ -230,7 +225,7 @@ def reference_curve(liquid: str, source: str = "auto") -> ReferenceCurve:
     Parameters
     ----------
     source : {"auto", "antoine", "ppds", "iapws95"}
-        "auto" takes IAPWS-95 for water, the bundled PPDS equation [5] where
+        "auto" takes IAPWS-95 for water, the bundled PPDS equation [4] where
         there is one (2-propanol, 1-butanol) and the Antoine set otherwise.
     """
     if source not in REFERENCE_SOURCES:

@@ -12,7 +12,7 @@ V_g = R T/p + B, and the liquid's molar volume V_l = M/ρ_l:
 B(T) comes from the Tsonopoulos correlation [3, 4] with the bundled critical
 constants, acentric factor, dipole moment and chemical class
 (``vpkit/physics/data/virial_tsonopoulos.csv``); ρ_l from the bundled PPDS density
-equation (:func:`vpkit.reference.liquid_density`).
+equation (:func:`vpkit.physics.liquids.liquid_density`).
 
 The standard uncertainty of B is taken as :data:`B_RELATIVE_U_DEFAULT` of |B|. That
 figure is ours: it covers the differences between the correlation and the

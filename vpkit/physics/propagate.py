@@ -7,7 +7,7 @@ reading, masses, scale offset, density, injected volume, depths, tube bore,
 humidity of the injected air). Inputs a run
 does not use have zero uncertainty. :func:`jacobian` differentiates ln p_vap
 of every point with respect to every input by central differences of the one
-reduction (:func:`vpkit.reduce.reduce_chain`), evaluated once on a batch of
+reduction (:func:`vpkit.physics.reduce.reduce_chain`), evaluated once on a batch of
 perturbed copies. Because a point's own readings enter only that point's
 result (except the cold reference's, which fix the air amount), the columns
 of one kind are perturbed together and separated exactly afterwards (column

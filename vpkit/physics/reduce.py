@@ -233,7 +233,7 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
 
 
 def _water_vapor_pressure(T):
-    """Saturation pressure of water [Pa] (IAPWS-95, :func:`vpkit.reference.iapws95_curve`):
+    """Saturation pressure of water [Pa] (IAPWS-95, :func:`vpkit.physics.curves.iapws95_curve`):
     the most the injected air's moisture can be, at relative humidity 1."""
     from .curves import iapws95_curve
 

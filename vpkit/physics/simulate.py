@@ -1,12 +1,12 @@
 """The forward model: raw readings a run would give for a known vapor-pressure curve.
 
 Used to make the invented demo runs, the round-trip tests and the coverage
-study. It inverts :mod:`vpkit.reduce` step by step, so a noise-free simulated
+study. It inverts :mod:`vpkit.physics.reduce` step by step, so a noise-free simulated
 run reduces back to the curve it came from.
 
 References
 ----------
-Same physics as :mod:`vpkit.reduce` (ideal gas, Dalton's law, hydrostatics).
+Same physics as :mod:`vpkit.physics.reduce` (ideal gas, Dalton's law, hydrostatics).
 """
 
 from __future__ import annotations
@@ -25,7 +25,7 @@ SI_UNITS = {"T": "K", "V": "m**3", "P": "Pa", "m": "kg", "rho": "kg/m**3", "L": 
 BENCH_UNITS = {"T": "degC", "V": "mL", "P": "kPa", "m": "g", "rho": "g/mL", "L": "cm"}
 
 #: Standard uncertainties assumed when noise is added (SI); common practice, no source
-#: (the same defaults as vpkit.run.DEFAULT_UNCERTAINTY).
+#: (the same defaults as vpkit.record.fields.DEFAULT_UNCERTAINTY).
 NOISE = {"reading": 0.005e-6, "T": 0.2, "P_bar": 100.0, "T_room": 0.3, "mass": 1e-6,
          "V_injected": 0.01e-6, "depth": 0.003}
 
@@ -35,7 +35,7 @@ def forward_readings(p_T, p_room, T, *, P_bar, T_room, V_room, offset, direction
                      room_depth=None, bore=None) -> dict:
     """Noise-free readings of runs whose true vapor pressure is known (any batch shape).
 
-    The inverse of :func:`vpkit.reduce.reduce_chain`, step by step: the weighed
+    The inverse of :func:`vpkit.physics.reduce.reduce_chain`, step by step: the weighed
     air amount at room temperature, the mass drop of the weighing, the room
     reading, then at each bath temperature the gas volume that holds that air
     at the total pressure minus the vapor pressure, and its graduation reading.

@@ -3,7 +3,7 @@
 After three or more readings, :func:`check_reading` fits the run so far (the one
 analysis path, :func:`vpkit.analyze`), takes the fitted vapor pressure at the new
 bath temperature, and finds the graduation reading that the one reduction
-(:func:`vpkit.propagate.evaluate`, with the run's own air amount, scale offset,
+(:func:`vpkit.physics.propagate.evaluate`, with the run's own air amount, scale offset,
 head and bore) turns into that vapor pressure, by secant steps. No inverse
 formula is written out, so the check sees every correction the analysis makes.
 

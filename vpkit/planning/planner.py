@@ -2,9 +2,9 @@
 
 A plan (liquid, bubble size, bath temperatures, instrument uncertainties, tube)
 is turned into the noise-free run it would record, by the forward model
-(:func:`vpkit.simulate.simulate_run`, the published curve as the truth), with
+(:func:`vpkit.physics.simulate.simulate_run`, the published curve as the truth), with
 the plan's instrument uncertainties stated. That run goes through the one
-analysis path (:func:`vpkit.engine.analyze_stack`): the predicted u(ΔH_vap),
+analysis path (:func:`vpkit.analysis.engine.analyze_stack`): the predicted u(ΔH_vap),
 u(T_b), extrapolation bias and warnings are the ones an analysis of the real
 run would report if the readings fell exactly on the curve. Nothing here is a
 second version of the physics. Many candidate plans are analysed as one stack,
@@ -13,8 +13,8 @@ one batched analysis.
 
 References
 ----------
-Forward model: :mod:`vpkit.simulate`; propagation and fit: :mod:`vpkit.engine`;
-published curves: :mod:`vpkit.reference`. Margins (common practice, no source):
+Forward model: :mod:`vpkit.physics.simulate`; propagation and fit: :mod:`vpkit.analysis.engine`;
+published curves: :mod:`vpkit.physics.liquids`. Margins (common practice, no source):
 the hottest point at least :data:`BOIL_MARGIN_K` below the boiling point at the
 barometric pressure, the coldest at least :data:`FREEZE_MARGIN_K` above the
 melting point.
@@ -43,7 +43,7 @@ BOIL_MARGIN_K = 10.0
 FREEZE_MARGIN_K = 2.0
 
 #: Instrument standard uncertainties of a plan (SI) when none are given: the defaults
-#: of vpkit.run.DEFAULT_UNCERTAINTY (common practice, no source).
+#: of vpkit.record.fields.DEFAULT_UNCERTAINTY (common practice, no source).
 INSTRUMENTS = {"reading": DEFAULT_UNCERTAINTY["reading_uncertainty"],
                "T": DEFAULT_UNCERTAINTY["temperature_uncertainty"],
                "P_bar": DEFAULT_UNCERTAINTY["barometric_pressure"],
@@ -128,7 +128,7 @@ class Prediction:
     index: int = 0
 
     def budget(self) -> pd.DataFrame:
-        """The predicted uncertainty budget (:func:`vpkit.budget.budget_table`)."""
+        """The predicted uncertainty budget (:func:`vpkit.analysis.budget.budget_table`)."""
         from ..analysis.budget import budget_table
 
         return budget_table(self.result, self.index)

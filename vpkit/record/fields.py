@@ -13,7 +13,7 @@ from dataclasses import dataclass
 #: Metadata the run section understands: name -> (kind, required, description).
 #: kind is a unit kind of :mod:`vpkit.units`, or "text".
 FIELDS: dict[str, tuple[str, bool, str]] = {
-    "liquid": ("text", True, "name of the liquid (see vpkit.reference.liquids())"),
+    "liquid": ("text", True, "name of the liquid (see vpkit.liquids())"),
     "barometric_pressure": ("pressure", True, "barometric pressure during the run"),
     "room_temperature": ("temperature", True, "room temperature at the weighing"),
     "room_reading": ("volume", False, "graduation reading at room temperature, at the weighing"),

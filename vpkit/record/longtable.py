@@ -13,7 +13,7 @@ file's ``[run]`` section, with units in brackets) and the readings columns::
 Optional standard uncertainties go in ``u(NAME) [UNIT]`` columns (one value per
 run) and a relative density uncertainty in ``u_rel(liquid_density)``.
 :func:`stack_table` converts the columns with array code and hands them to
-:func:`vpkit.stack.assemble`, the same checks and default rule as for run files.
+:func:`vpkit.record.assemble.assemble`, the same checks and default rule as for run files.
 """
 
 from __future__ import annotations

@@ -1,4 +1,4 @@
-"""The run file: reading it into a :class:`~vpkit.run.Run` and writing it back.
+"""The run file: reading it into a :class:`~vpkit.record.run.Run` and writing it back.
 
 A run file is plain CSV (comma, semicolon or tab separated) that a person can
 fill in with a spreadsheet or a text editor. Lines starting with ``#`` are
@@ -18,7 +18,7 @@ comments and are kept. It has two sections::
 Every number carries a unit; the readings' units sit in brackets in the header.
 :func:`write_run` writes a run so that :func:`read_run` gives back an equal
 ``Run``. This module checks the text (numbers, units, layout); the physical
-checks happen once, for one run or many, in :mod:`vpkit.stack`.
+checks happen once, for one run or many, in :mod:`vpkit.record.stack`.
 """
 
 from __future__ import annotations

@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime as _dt
 import hashlib
 import json
+import time
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -190,3 +191,49 @@ def load_session(path, run: Run | None = None) -> SessionState:
                                "edited since)", file=src, column="run_sha256",
                                hint="delete or rename the session file to start afresh")
     return state
+
+
+@dataclass(frozen=True)
+class Restored:
+    """What :func:`restore_session` recovered: flags, reasons, choices, and what was done."""
+
+    include: tuple[bool, ...]
+    reasons: tuple[str, ...]
+    choices: dict
+    message: str
+
+
+def restore_session(path, run: Run) -> Restored | None:
+    """The saved exclusions and choices for ``run`` from its session file, or None.
+
+    A session saved for another version of the run file is never overwritten: it is
+    kept aside as ``NAME.refused-TIME``, and the exclusions and reasons of the points
+    whose readings are unchanged are re-applied (the message says how many, and which
+    saved points no longer match a reading).
+    """
+    path = Path(path)
+    if not path.exists():
+        return None
+    try:
+        state = load_session(path, run)
+    except SessionError as exc:
+        try:
+            old = load_session(path)  # readable, but for an edited run file?
+        except SessionError:
+            old = None
+        aside = path.with_name(path.name + f".refused-{int(time.time())}")
+        path.rename(aside)
+        if old is not None and old.points:
+            new, applied, lost = old.reapply(run)
+            return Restored(
+                new.include, new.reason, dict(old.choices),
+                f"the run file changed since the session was saved (old session kept as "
+                f"{aside.name}): re-applied the exclusions and reasons of "
+                f"{len(applied)} point(s) whose readings are unchanged"
+                + (f"; {len(lost)} saved point(s) ({', '.join(map(str, lost))}) no longer "
+                   "match a reading and were not applied" if lost else ""))
+        return Restored(run.include, run.reason, {},
+                        f"{exc} — kept as {aside.name}; starting from the run file")
+    return Restored(tuple(state.include), tuple(state.reasons), dict(state.choices),
+                    f"restored exclusions and choices from {path.name}")
+

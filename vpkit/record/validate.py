@@ -2,7 +2,7 @@
 
 Every run, from a run file or a long table, one or ten thousand, passes
 through :func:`check` and :func:`uncertainties` (called by
-:func:`vpkit.stack.assemble`), so a run gets the same errors and the same
+:func:`vpkit.record.assemble.assemble`), so a run gets the same errors and the same
 uncertainties whichever way it arrives. Checks are vectorised over runs; a
 failed check gives a located error (file, row, column, how to fix it) for
 that run only.
@@ -10,7 +10,7 @@ that run only.
 References
 ----------
 .. [1] JCGM 100:2008 (GUM), section 4.3: Type B standard uncertainties (the
-   defaults are common practice, no source: :data:`vpkit.run.DEFAULT_UNCERTAINTY`).
+   defaults are common practice, no source: :data:`vpkit.record.fields.DEFAULT_UNCERTAINTY`).
 """
 
 from __future__ import annotations

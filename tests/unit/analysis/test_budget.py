@@ -61,7 +61,3 @@ def test_u_if_halved_is_what_a_halved_uncertainty_gives():
     assert halved.enthalpy.std_dev / 1e3 == pytest.approx(predicted, rel=0.02)
 
 
-def test_unknown_monte_carlo_inputs_are_refused():
-    a = vpkit.analyze(_run(), warn=False)
-    with pytest.raises(vpkit.InputError, match="unknown input"):
-        a.monte_carlo(10, inputs=["thermometre"])

@@ -1,6 +1,6 @@
 """Derived results: ΔS_vap at T_b, the T_b extrapolation bias and Trouton's bands,
 checked by hand against Kirchhoff's integrated equation (ln p with constant ΔCp) and
-the bands stated in vpkit.derived (common practice, no source). Checks against
+the bands stated in vpkit.analysis.derived (common practice, no source). Checks against
 reference equations of state are in tests/reference/test_derived_results.py."""
 
 import math

@@ -1,11 +1,12 @@
 """The Run record: kept exactly as entered, copies never change the original.
 Expectations are the record's documented behaviour (ours, no source)."""
 
+import pandas as pd
 import pytest
 
 import vpkit
 from tests.conftest import make_run
-from tests.unit.test_runfile import GOOD
+from tests.unit.record.test_runfile import GOOD
 from vpkit.record import run_in_si
 
 
@@ -30,3 +31,14 @@ def test_to_si_is_a_stack_of_one():
     stack = vpkit.stack_runs([run])
     assert si.P_bar == stack.scalar["P_bar"][0] and si.depth == pytest.approx(0.05)
     assert not si.T.flags.writeable
+
+
+def test_from_frame_and_to_frame():
+    df = pd.DataFrame({"bath_temperature [degC]": [30.0, 40.0], "reading [mL]": [2.1, 2.3]})
+    run = vpkit.Run.from_frame(df, liquid="water", barometric_pressure="100.1 kPa",
+                               room_temperature=(21.0, "degC"), scale_offset="0.1 mL")
+    assert run.bath_temperature == (30.0, 40.0)
+    assert list(run.to_frame()["reading [mL]"]) == [2.1, 2.3]
+    si = run_in_si(run)
+    assert si.P_bar == pytest.approx(100100.0)
+    assert si.scale_offset == pytest.approx(1e-7)

@@ -1,5 +1,5 @@
 """Long tables: the same stack as from run records, located errors, one bad run kept
-to itself. Expected values: the run records' own conversion (vpkit.stack.stack_runs),
+to itself. Expected values: the run records' own conversion (vpkit.record.assemble.stack_runs),
 which the unit tests of units.py check against the SI Brochure."""
 
 import numpy as np

@@ -6,7 +6,6 @@ marginal covariance of the remaining points (Cook & Weisberg 1982, section 2.2).
 """
 
 import numpy as np
-import pytest
 
 from vpkit.fitting import lsq
 
@@ -54,14 +53,6 @@ def test_least_squares_matches_lapack():
     assert not lsq.lstsq(X, y)["rank_ok"][0]
 
 
-def test_running_sum_ignores_trailing_padding():
-    x = rng.normal(size=(4, 7)) * 10.0 ** rng.integers(-8, 8, (4, 7))
-    padded = np.concatenate([x, np.zeros((4, 9))], axis=1)
-    np.testing.assert_array_equal(lsq.psum(x), lsq.psum(padded))
-    expected = np.array([sum(float(v) for v in row) for row in x])  # left to right
-    np.testing.assert_array_equal(lsq.psum(x), expected)
-
-
 def test_damped_step_tends_to_least_squares():
     J = rng.normal(size=(5, 8, 3))
     r = rng.normal(size=(5, 8))
@@ -94,8 +85,3 @@ def test_leave_one_out_equals_refits_with_the_marginal_covariance():
     assert dth.shape == (1, N, p)
 
 
-@pytest.mark.parametrize("shape", [(3, 4, 2), (2, 5, 3)])
-def test_ordered_matmul(shape):
-    A = rng.normal(size=shape)
-    B = rng.normal(size=(shape[0], shape[2], 4))
-    np.testing.assert_allclose(lsq.pmatmul(A, B), A @ B, rtol=1e-12)

@@ -56,7 +56,7 @@ def _entry(run, name, entry):
 
 def test_unit_slips_are_named_with_their_number():
     """A barometer typed in mbar as if kPa, a room temperature in degF labelled degC
-    (ranges: common practice, no source; stated in vpkit.checks)."""
+    (ranges: common practice, no source; stated in vpkit.analysis.findings)."""
     run = make_run("ethanol")
     slip = _entry(run, "barometric_pressure", vpkit.Entry(1000.8, "kPa"))
     with np.errstate(all="ignore"):

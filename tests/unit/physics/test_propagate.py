@@ -52,7 +52,7 @@ def test_p_vap_correlated_values_carry_the_covariance():
 
 
 def test_published_p_vap_at_the_air_reference_carries_its_uncertainty():
-    """The curve's relative uncertainty (vpkit.reference.CURVE_U_REL: 1 % for an Antoine
+    """The curve's relative uncertainty (vpkit.physics.curves.CURVE_U_REL: 1 % for an Antoine
     set) enters as an input scaling p_vap at the air reference; its Jacobian column is
     d ln p/d p_ref times p_ref (chain rule), and it is absent when p_vap there is solved
     with the fit."""

@@ -15,7 +15,7 @@ from tests.conftest import make_run
 from vpkit.analysis.selfconsistent import SELF_CONSISTENT_TOL, solve_fixed_point
 from vpkit.errors import ConvergenceWarning
 
-ROOT = Path(__file__).resolve().parents[2]
+ROOT = Path(__file__).resolve().parents[3]
 
 
 def test_root_finder_secant_and_bracket():

@@ -56,17 +56,6 @@ def test_weighted_straight_line_by_hand():
         assert np.sqrt(r.cov[1, 1]) == pytest.approx(np.sqrt(S / D), rel=1e-10)
 
 
-def test_leverage_and_leave_one_out():
-    y = 20 - 4000 / T + np.array([0, 0.01, -0.01, 0, 0.02, 0, -0.02, 0.05])
-    r = fit_points(T, y, weighting="ordinary")
-    X = np.stack([np.ones_like(T), 1 / T], 1)
-    H = X @ np.linalg.inv(X.T @ X) @ X.T
-    np.testing.assert_allclose(r.leverage, np.diag(H), rtol=1e-8)
-    keep = np.arange(len(T)) != 7
-    b7 = np.polyfit(1 / T[keep], y[keep], 1)[0]
-    assert r.loo_enthalpy[7] == pytest.approx(-R * b7, rel=1e-9)
-
-
 def test_excluded_points_keep_residuals_and_stay_out():
     y = 20 - 4000 / T
     y2 = y.copy()

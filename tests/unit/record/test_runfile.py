@@ -1,10 +1,9 @@
-"""Run files (vpkit.runfile): reading, writing, units, errors that name the place.
+"""Run files (vpkit.record.runfile): reading, writing, units, errors that name the place.
 
 Unit factors are checked in test_units.py (SI Brochure, NIST SP 811); here the
 expectations are the file format's own rules (common practice, no source)."""
 
 import numpy as np
-import pandas as pd
 import pytest
 
 import vpkit
@@ -44,17 +43,6 @@ def test_simulated_run_round_trip_exact(tmp_path):
     assert vpkit.read_run(vpkit.write_run(run, tmp_path / "s.csv")) == run
 
 
-def test_from_frame_and_to_frame():
-    df = pd.DataFrame({"bath_temperature [degC]": [30.0, 40.0], "reading [mL]": [2.1, 2.3]})
-    run = vpkit.Run.from_frame(df, liquid="water", barometric_pressure="100.1 kPa",
-                               room_temperature=(21.0, "degC"), scale_offset="0.1 mL")
-    assert run.bath_temperature == (30.0, 40.0)
-    assert list(run.to_frame()["reading [mL]"]) == [2.1, 2.3]
-    si = run_in_si(run)
-    assert si.P_bar == pytest.approx(100100.0)
-    assert si.scale_offset == pytest.approx(1e-7)
-
-
 def test_three_unit_sets_give_identical_results():
     """The same physical run written in three unit sets analyses the same (1e-10)."""
     sets = [
@@ -90,14 +78,6 @@ def test_errors_name_the_place(text, error, where):
         assert info.value.row == row
         assert info.value.column == column
         assert info.value.hint
-
-
-def test_decimal_comma_is_refused_with_a_hint_or_read_on_request():
-    text = GOOD.replace(",", ";").replace("25.0;2.1", "25,0;2,1")
-    with pytest.raises(BadValueError, match="decimal comma"):
-        vpkit.parse_run(text)
-    run = vpkit.parse_run(text.replace("100.2", "100,2"), decimal=",")
-    assert run.bath_temperature[0] == 25.0 and run.reading[0] == 2.1
 
 
 def test_plausibility_celsius_labelled_kelvin():

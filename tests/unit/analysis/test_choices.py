@@ -1,5 +1,5 @@
 """The one resolver: each choice means the same thing for one run or many.
-Expectations are the documented meanings in vpkit.choices (ours, no source)."""
+Expectations are the documented meanings in vpkit.analysis.choices (ours, no source)."""
 
 import numpy as np
 import pytest

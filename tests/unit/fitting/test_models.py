@@ -1,7 +1,7 @@
 """Fit models: each formula's derivatives against finite differences of the formula
 itself, the inverse (boiling point) against the forward formula, and the Antoine
 start on exact data. The formulas are those of Clausius-Clapeyron, Kirchhoff and
-Antoine as written in vpkit.models (sources there)."""
+Antoine as written in vpkit.fitting.models (sources there)."""
 
 import numpy as np
 import pytest

@@ -1,6 +1,6 @@
 """The bench check of a new reading. Criteria (issue "before and during the run"): a
 swapped-digit reading is flagged; clean readings are flagged at the design rate. Design
-rate (stated in vpkit.reading_check): |z| > 4 for about 1 in 16,000 clean readings if
+rate (stated in vpkit.planning.bench_check): |z| > 4 for about 1 in 16,000 clean readings if
 errors are normal; the z of clean readings must have unit spread (that is what makes
 the threshold mean what it says). Measured when written (seed 2026, 400 checks on 200
 simulated runs of water, ethanol, 2-propanol, toluene): none flagged, spread of z 1.00,
