@@ -19,7 +19,7 @@ TESTS = Path(__file__).parent / "unit"
 #: Stages from the bottom up: a module may import its own stage and the stages below.
 STAGES = {"": 0, "record": 1, "physics": 2, "fitting": 3, "analysis": 4, "output": 5,
           "planning": 6, "panels": 7, "top": 8}
-BASE = {"errors", "constants", "units", "arrays"}
+BASE = {"errors", "constants", "units", "arrays", "display"}
 #: The one stated exception: a result object's rendering shortcuts hand over to output/
 #: (Analysis.summary(), Analysis.figure()); output/ never imports analysis/.
 UPWARD_ALLOWED = {("analysis.one_run", "output.run_summary"),

@@ -10,6 +10,7 @@ Typical use::
     result.figure().savefig("run.png", dpi=300)
 """
 
+from . import display
 from .analysis import (
     Analysis,
     ManyResult,
@@ -29,7 +30,6 @@ from .errors import (
     VpkitWarning,
 )
 from .fitting import FitResult, fit_points
-from .output import display
 from .physics import liquids, reference_curve
 from .planning import check_reading, plan
 from .record import Entry, Run, RunStack, format_run, parse_run, read_run, stack_runs, write_run

@@ -17,11 +17,22 @@ from .errors import VpkitError
 
 def _options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--model", default="clausius_clapeyron",
-                   choices=["clausius_clapeyron", "constant_dcp", "antoine"])
-    p.add_argument("--weighting", default="gls", choices=["gls", "weighted", "ordinary"])
-    p.add_argument("--air-from", default="weighed", choices=["weighed", "cold", "injected"])
+                   choices=["clausius_clapeyron", "constant_dcp", "antoine"],
+                   help="fit model: Clausius-Clapeyron (constant ΔH_vap), constant ΔCp "
+                   "(Kirchhoff) or Antoine (default: %(default)s)")
+    p.add_argument("--weighting", default="gls", choices=["gls", "weighted", "ordinary"],
+                   help="gls: full covariance of ln p (shared barometer and air amount); "
+                   "weighted: diagonal only; ordinary: unweighted (default: %(default)s)")
+    p.add_argument("--air-from", default="auto",
+                   choices=["auto", "weighed", "cold", "injected"],
+                   help="air amount from the weighing at room temperature, the coldest "
+                   "reading, or the injected volume; auto: each run by the first of these "
+                   "(weighed, injected, cold) its record supports (default: %(default)s)")
     p.add_argument("--vapor-at-air-reference", default="auto",
-                   choices=["auto", "reference", "fit", "neglect"])
+                   choices=["auto", "reference", "fit", "neglect"],
+                   help="p_vap at the air-reference temperature from the published equation, "
+                   "self-consistently from the fit, or neglected; auto: the published equation "
+                   "where the liquid has one, else fit (default: %(default)s)")
     p.add_argument("--reference", default="auto",
                    choices=["auto", "antoine", "ppds", "iapws95", "none"],
                    help="reference equation for the comparison (auto: IAPWS-95 for water, "
@@ -97,8 +108,8 @@ def _plan_options(p) -> None:
 def _plan(args) -> int:
     import numpy as np
 
+    from . import display as D
     from .constants import T_ZERO_C
-    from .output import display as D
     from .output.run_summary import SAFETY_NOTE
     from .planning.planner import Plan, predict, search
 
@@ -154,8 +165,8 @@ def _print_prediction(title, p, D) -> None:
 
 
 def _analyze(args) -> int:
+    from . import display as D
     from .analysis.one_run import analyze
-    from .output import display as D
     from .output.run_summary import SAFETY_NOTE, write_outputs
     from .record.runfile import read_run
     from .record.session import SessionError, load_session, session_path

@@ -78,9 +78,36 @@ def normalize_unit(text: str) -> str:
     return _ALIASES.get(squeezed, _ALIASES.get(key.lower(), key))
 
 
+#: A graduation reading is a volume (a graduated tube) or, for a capillary of known bore,
+#: the bubble's length: the "reading" kind accepts either, and :func:`reading_kind` says which.
+READING_KINDS = ("volume", "length")
+
+
+@functools.lru_cache(maxsize=256)
+def reading_kind(unit: str) -> str:
+    """``"volume"`` or ``"length"``: what a reading in ``unit`` is.
+
+    Raises
+    ------
+    UnitError
+        The unit is neither (with a hint naming both).
+    """
+    for kind in READING_KINDS:
+        try:
+            _factor(unit, kind, False)
+            return kind
+        except UnitError:
+            continue
+    raise UnitError(f"unit {unit!r} is neither a volume nor a length",
+                    hint="a graduation reading is a volume (mL, uL, cm3); a capillary's "
+                    "bubble length is a length (mm, cm) read with tube_bore")
+
+
 @functools.lru_cache(maxsize=256)
 def _factor(unit: str, kind: str, delta: bool) -> tuple[float, float]:
     """Return (scale, offset) such that SI = scale*value + offset."""
+    if kind == "reading":
+        return _factor(unit, reading_kind(unit), delta)
     if kind not in _DIMENSIONS:
         raise KeyError(kind)
     name = normalize_unit(unit)
@@ -125,14 +152,15 @@ def to_si(value, unit: str, kind: str, *, delta: bool = False):
         The unit as entered (``kPa``, ``°C``, ``mL`` ...).
     kind : str
         One of ``temperature``, ``pressure``, ``volume``, ``mass``,
-        ``density``, ``length``.
+        ``density``, ``length``, ``fraction``, or ``reading`` (a volume or a
+        length, see :func:`reading_kind`).
     delta : bool
         Treat a temperature as a difference (for uncertainties).
 
     Returns
     -------
     float or ndarray
-        The value in K, Pa, m^3, kg, kg/m^3 or m.
+        The value in K, Pa, m^3, kg, kg/m^3, m or 1.
 
     Raises
     ------

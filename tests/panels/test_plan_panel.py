@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 
 pytest.importorskip("ipywidgets")
-from vpkit.output import display as D
+from vpkit import display as D
 from vpkit.panels import plan_panel
 from vpkit.planning.planner import predict
 

@@ -6,6 +6,10 @@ which density, which published curve, how p_vap at the air reference is
 taken, which reading is the cold reference, whether the head applies. Every
 entry point calls these two, so ``"auto"`` means the same everywhere:
 
+- ``air_from="auto"``: each run's air amount by the first method its record
+  supports, in the order of :data:`AUTO_AIR_ORDER`: the weighing (a room
+  reading, with the masses or a scale offset), the injected volume, the cold
+  reading (the coldest point, set aside from the fit);
 - ``vapor_at_air_reference="auto"``: the published equation when the liquid
   has one, else self-consistent with the fit (``"fit"``);
 - ``reference="auto"``: IAPWS-95 for water, the bundled PPDS equation for
@@ -20,6 +24,7 @@ See :mod:`vpkit.physics.reduce` (air-amount methods, METHOD 2.3) and
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -57,6 +62,12 @@ DEFAULT_THRESHOLDS: dict[str, float] = {
 
 AIR_REFERENCE_REASON = "used for the air amount (cold reference)"
 
+#: air_from="auto": the methods in order of preference (our choice: the weighing calibrates
+#: the volume itself; an injected volume assumes the syringe's air at room conditions; a
+#: cold reading spends a point and needs p_vap there).
+AUTO_AIR_ORDER = ("weighed", "injected", "cold")
+AIR_CHOICES = ("auto",) + AIR_METHODS
+
 
 @dataclass(frozen=True)
 class Choices:
@@ -66,7 +77,9 @@ class Choices:
     ----------
     model : {"clausius_clapeyron", "constant_dcp", "antoine"}
     weighting : {"gls", "weighted", "ordinary"}
-    air_from : {"weighed", "cold", "injected"}
+    air_from : {"auto", "weighed", "cold", "injected"}
+        "auto" (default): each run by the first method its record supports
+        (:data:`AUTO_AIR_ORDER`).
     vapor_at_air_reference : {"auto", "reference", "fit", "neglect"}
     cold_index : int or None
         Point used as the cold reference (default: the coldest).
@@ -87,7 +100,7 @@ class Choices:
 
     model: str = "clausius_clapeyron"
     weighting: str = "gls"
-    air_from: str = "weighed"
+    air_from: str = "auto"
     vapor_at_air_reference: str = "auto"
     cold_index: int | None = None
     use_head: bool = True
@@ -105,8 +118,8 @@ class Choices:
             f"{name} must be one of {', '.join(map(str, allowed))}, got {got!r}", column=name)
         if self.weighting not in WEIGHTINGS:
             raise bad("weighting", WEIGHTINGS, self.weighting)
-        if self.air_from not in AIR_METHODS:
-            raise bad("air_from", AIR_METHODS, self.air_from)
+        if self.air_from not in AIR_CHOICES:
+            raise bad("air_from", AIR_CHOICES, self.air_from)
         if self.vapor_at_air_reference not in ("auto",) + VAPOR_AT_AIR_REFERENCE:
             raise bad("vapor_at_air_reference", ("auto",) + VAPOR_AT_AIR_REFERENCE,
                       self.vapor_at_air_reference)
@@ -187,10 +200,14 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
     fail = _Failures(R)
     notices: list[list[Notice]] = [[] for _ in range(R)]
     curves, own_code, compare_code = _curves(stack, choices, fail, notices)
-    density = _density(stack, fail)
     depth = (np.full(R, float(choices.bubble_depth)) if choices.bubble_depth is not None
              else np.array(stack.scalar["depth"], float))
-    mode = _vapor_mode(stack, choices, own_code >= 0, fail)
+    sc = stack.scalar
+    needs_density = (~np.isnan(sc["mass_before"])
+                     | (bool(choices.use_head) & (~np.isnan(depth) | ~np.isnan(sc["room_depth"]))))
+    density = _density(stack, fail, needs_density)
+    air = air_methods(stack, choices, fail)
+    mode = _vapor_mode(stack, choices, air, own_code >= 0, fail)
     takes = {x: _takes_up_water(x) for x in set(stack.liquid)}
     cold = _cold_index(stack, choices, fail)
     if choices.water_layer:
@@ -200,7 +217,7 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                 fail(r, BadValueError("water_layer means a liquid floating on water; this run's "
                                       "liquid is water itself", column="water_layer",
                                       hint="analyse water runs without water_layer"))
-    setup = ReductionSetup(air_from=choices.air_from, gas_mass=bool(choices.gas_mass),
+    setup = ReductionSetup(air_from=readonly(air), gas_mass=bool(choices.gas_mass),
                            direction=readonly(stack.direction),
                            offset_from_weighing=readonly(~np.isnan(stack.scalar["mass_before"])),
                            cold_index=readonly(cold.astype(int)),
@@ -209,7 +226,8 @@ def resolve(stack: RunStack, choices: Choices) -> Resolved:
                            room_head=readonly(np.full(R, bool(choices.use_head))),
                            moisture_dissolves=readonly(np.array(
                                [takes[x] for x in stack.liquid], bool)),
-                           water_layer=bool(choices.water_layer))
+                           water_layer=bool(choices.water_layer),
+                           length_readings=readonly(stack.length_readings))
     return Resolved(readonly(density), readonly(depth),
                     CurveSet.from_codes(curves, own_code),
                     CurveSet.from_codes(curves, compare_code), readonly(mode), setup,
@@ -259,11 +277,17 @@ def _curves(stack, choices, fail, notices):
     return tuple(curves), own_code, compare_code
 
 
-def _density(stack, fail) -> np.ndarray:
-    """The run's own liquid density, or the reference value at the room temperature."""
+def _density(stack, fail, needed) -> np.ndarray:
+    """The run's own liquid density, or the reference value at the room temperature.
+
+    A run that neither weighs its gas nor adds a hydrostatic head does not use the
+    density: without one (an unnamed liquid, say) it gets 0, which enters nothing."""
     sc = stack.scalar
     density = np.array(sc["density"], float)
     liquids = np.asarray(stack.liquid, dtype=object)
+    unknown = [x for x in set(stack.liquid) if not has_reference(x)]  # one call per liquid
+    unused = np.isnan(density) & ~needed & np.isin(liquids, unknown)
+    density[unused] = 0.0
     for liquid in set(stack.liquid):
         sel = np.flatnonzero(np.isnan(density) & (liquids == liquid))
         if not sel.size:
@@ -283,29 +307,51 @@ def _density(stack, fail) -> np.ndarray:
     return density
 
 
-def _vapor_mode(stack, choices, with_curve, fail) -> np.ndarray:
-    """How p_vap at the air reference is taken per run, and what each air method needs."""
-    R, sc = stack.R, stack.scalar
+def air_supported(stack: RunStack) -> dict[str, np.ndarray]:
+    """Which air methods each run's record supports (bools (R,) per method)."""
+    sc = stack.scalar
+    return {"weighed": ~np.isnan(sc["room_reading"]), "injected": ~np.isnan(sc["V_injected"]),
+            "cold": stack.n_points >= 1}
+
+
+#: What each method needs from the record, for the messages.
+AIR_NEEDS = {"weighed": ("room_reading", "the reading taken at the weighing"),
+             "injected": ("injected_air_volume", "the volume of air injected"),
+             "cold": ("bath_temperature", "a reading")}
+
+
+def air_methods(stack: RunStack, choices: Choices, fail) -> np.ndarray:
+    """Each run's air method: the one asked for, or under "auto" the first its record
+    supports; a run that lacks what an explicit method needs fails with a hint naming
+    the method its record does support."""
+    can = air_supported(stack)
+    if choices.air_from == "auto":
+        out = np.full(stack.R, AUTO_AIR_ORDER[-1], dtype=object)
+        for method in reversed(AUTO_AIR_ORDER):
+            out = np.where(can[method], method, out)
+        return out
+    method = choices.air_from
+    name, what = AIR_NEEDS[method]
+    for r in np.flatnonzero(~can[method]):
+        other = next(m for m in AUTO_AIR_ORDER if can[m][r])
+        fail(r, InputError(f"air_from={method!r} needs {name} ({what}), and this run has none",
+                           **stack.place(r, name),
+                           hint=f"add {name}, or use air_from={other!r} (what this run's "
+                           "record supports) or 'auto'"))
+    return np.full(stack.R, method, dtype=object)
+
+
+def _vapor_mode(stack, choices, air, with_curve, fail) -> np.ndarray:
+    """How p_vap at the air reference is taken per run ("none" for injected air)."""
     vap = choices.vapor_at_air_reference
-    if choices.air_from == "injected":
-        for r in np.flatnonzero(np.isnan(sc["V_injected"])):
-            fail(r, InputError("air_from='injected' needs injected_air_volume",
-                               **stack.place(r, "injected_air_volume"),
-                               hint="add it, or use air_from='weighed'"))
-        return np.full(R, "none", dtype=object)
     mode = (np.where(with_curve, "reference", "fit").astype(object) if vap == "auto"
-            else np.full(R, vap, dtype=object))
+            else np.full(stack.R, vap, dtype=object))
     if vap == "reference":
-        for r in np.flatnonzero(~with_curve):
+        for r in np.flatnonzero(~with_curve & (air != "injected")):
             fail(r, InputError("vapor_at_air_reference='reference' needs a reference "
                                f"equation, and {stack.liquid[r]!r} has none",
                                **stack.place(r, "liquid"), hint="use 'fit' or 'neglect'"))
-    if choices.air_from == "weighed":
-        for r in np.flatnonzero(np.isnan(sc["room_reading"])):
-            fail(r, InputError("air_from='weighed' needs room_reading",
-                               **stack.place(r, "room_reading"),
-                               hint="add the reading taken at the weighing"))
-    return mode
+    return np.where(air == "injected", "none", mode).astype(object)
 
 
 def _cold_index(stack, choices, fail) -> np.ndarray:
@@ -325,10 +371,12 @@ def _cold_index(stack, choices, fail) -> np.ndarray:
 def setup_rows(setup: ReductionSetup, idx) -> ReductionSetup:
     """The setup of the runs at ``idx`` (per-run arrays indexed)."""
     pick = lambda v: readonly(np.asarray(v)[idx]) if np.ndim(v) else v  # noqa: E731
-    return ReductionSetup(setup.air_from, setup.gas_mass, pick(setup.direction),
-                          pick(setup.offset_from_weighing), pick(setup.cold_index),
-                          pick(setup.use_head), pick(setup.room_head),
-                          pick(setup.moisture_dissolves), setup.water_layer)
+    return dataclasses.replace(
+        setup, air_from=pick(setup.air_from), direction=pick(setup.direction),
+        offset_from_weighing=pick(setup.offset_from_weighing), cold_index=pick(setup.cold_index),
+        use_head=pick(setup.use_head), room_head=pick(setup.room_head),
+        moisture_dissolves=pick(setup.moisture_dissolves),
+        length_readings=pick(setup.length_readings))
 
 
 #: Liquids that take up the water vapor of injected air (water itself, and liquids

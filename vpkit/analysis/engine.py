@@ -38,7 +38,7 @@ from ..record.stack import RunStack
 from . import derived
 from .choices import AIR_REFERENCE_REASON, Choices, Resolved, resolve
 from .comparison import compare_stack
-from .selfconsistent import merge_rows, reduce_and_fit, self_consistent
+from .selfconsistent import merge_rows, reduce_and_fit, solve_air_reference
 
 
 @dataclass(frozen=True)
@@ -87,6 +87,13 @@ class StackResult:
     self_consistent_rounds : ndarray of int (R,)
         Rounds of the self-consistent air amount (0 where not used);
         ``self_consistent_error`` the final relative mismatch |g(p) - p|/p.
+    air_reference : mapping of str -> ndarray (R,)
+        How a self-consistent p_ref was found: ``model`` (the model whose curve
+        gave it: the chosen one, or the Clausius–Clapeyron line where the chosen
+        three-parameter curve has no self-consistent value; "" where not
+        solved), ``fallback`` ("reference" or "neglect" where no solution exists),
+        and the chosen model's closest attempt ``best_p`` [Pa], ``best_G`` = g - p
+        there [Pa] and ``best_enthalpy`` [J/mol] (NaN where a root was found).
     robust_z : ndarray (R, N)
         Distance of each included point from a Theil-Sen line, in its own
         standard uncertainties.
@@ -135,6 +142,7 @@ class StackResult:
     comparison: dict = field(repr=False)
     self_consistent_rounds: np.ndarray
     self_consistent_error: np.ndarray
+    air_reference: dict = field(repr=False)
     robust_z: np.ndarray
     point_only_u: np.ndarray = field(repr=False)
     findings: tuple = ()
@@ -181,17 +189,18 @@ def _analyze_stack(stack, choices, include, reasons) -> StackResult:
     asked = (readonly(inc.copy()), why.copy())
     setup = res.setup
     rows = np.arange(R)
-    if setup.air_from == "cold" and N:
-        c = np.asarray(setup.cold_index)
-        real = stack.mask[rows, c]
+    is_cold = np.broadcast_to(setup.uses("cold"), (R,))
+    if is_cold.any() and N:
+        c = np.broadcast_to(np.asarray(setup.cold_index, int), (R,))
+        real = stack.mask[rows, c] & is_cold
         inc[rows[real], c[real]] = False
         why[rows[real], c[real]] = AIR_REFERENCE_REASON
     mode = res.vapor_mode
     ref_u = np.where(mode == "reference", res.own_curve.bound("u_rel"), 0.0)
     res = dataclasses.replace(res, layout=build_inputs(stack, setup, res.density, res.depth,
                                                        ref_u))
-    T_ref0 = (stack.T[rows, np.asarray(setup.cold_index)] if setup.air_from == "cold" and N
-              else stack.scalar["T_room"])
+    T_ref0 = (np.where(is_cold, stack.T[rows, np.broadcast_to(setup.cold_index, (R,))],
+                       stack.scalar["T_room"]) if N else stack.scalar["T_room"])
     start = np.nan_to_num(res.compare_curve.p(T_ref0))
     fixed = np.where(mode == "fit", start, 0.0)
     errors: list[VpkitError | None] = list(res.errors)
@@ -199,21 +208,43 @@ def _analyze_stack(stack, choices, include, reasons) -> StackResult:
     sc_err = np.full(R, np.nan)
     out = reduce_and_fit(stack, res, choices, rows, fixed, inc, fit=False)
     fit_mode = np.flatnonzero((mode == "fit") & np.array([e is None for e in errors]))
+    how = {"model": np.full(R, "", dtype=object), "fallback": np.full(R, "", dtype=object),
+           "best_p": np.full(R, np.nan), "best_G": np.full(R, np.nan),
+           "best_enthalpy": np.full(R, np.nan)}
     if fit_mode.size:
-        sc, p_sc, rnd, err, failed = self_consistent(stack, res, choices, fit_mode,
-                                                      fixed[fit_mode], inc)
+        sc, p_sc, rnd, err, failed, model_used, best = solve_air_reference(
+            stack, res, choices, fit_mode, fixed[fit_mode], inc)
         out = merge_rows(out, fit_mode, sc)
         sc_rounds[fit_mode], sc_err[fit_mode] = rnd, err
-        for r in fit_mode[failed]:
-            errors[r] = FitError("no self-consistent vapor pressure at the air reference "
-                                 "temperature was found; use vapor_at_air_reference="
-                                 "'reference' or 'neglect'",
-                                 run_id=stack.run_ids[r] if R > 1 else None)
+        how["model"][fit_mode] = model_used
+        how["best_p"][fit_mode], how["best_G"][fit_mode] = best["p"], best["G"]
+        if failed.any():
+            res, out = _fallback(stack, res, choices, out, inc, fit_mode[failed],
+                                 best["p"][failed], best["G"][failed], how)
     return _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_checks,
-                   asked)
+                   asked, how)
 
 
-def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_checks, asked):
+def _fallback(stack, res, choices, out, inc, rows, best_p, best_G, how):
+    """Runs without a self-consistent p_ref keep their place: p_ref from the published
+    curve where the liquid has one, else neglected; the closest attempt (its |g - p|
+    and ΔH_vap) is kept for the warning."""
+    tried = reduce_and_fit(stack, res, choices, rows, np.nan_to_num(best_p), inc)
+    how["best_p"][rows], how["best_G"][rows] = best_p, best_G
+    how["best_enthalpy"][rows] = tried["fit"].enthalpy()[0]
+    has = res.own_curve.has[rows]
+    mode = np.array(res.vapor_mode, dtype=object)
+    mode[rows] = np.where(has, "reference", "neglect")
+    how["fallback"][rows] = mode[rows]
+    ref_u = np.where(mode == "reference", res.own_curve.bound("u_rel"), 0.0)
+    res = dataclasses.replace(res, vapor_mode=readonly(mode), layout=build_inputs(
+        stack, res.setup, res.density, res.depth, ref_u))
+    nxt = reduce_and_fit(stack, res, choices, rows, np.zeros(len(rows)), inc, fit=False)
+    return res, merge_rows(out, rows, nxt)
+
+
+def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_checks, asked,
+            how):
     """The final fit of every run, derived results, comparison and checks."""
     R, N = stack.T.shape
     nominal, lnp = out["nominal"], out["lnp"]
@@ -224,8 +255,10 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
     fit = fit_stack(choices.model, T, lnp, fit_inc, weighting=choices.weighting, cov_y=cov_y,
                     cov_yT=cov_yT, cov_T=cov_T)
     cold = np.zeros((R, N), bool)
-    if res.setup.air_from == "cold" and N:
-        cold[np.arange(R), np.asarray(res.setup.cold_index)] = True
+    is_cold = np.broadcast_to(res.setup.uses("cold"), (R,))
+    if is_cold.any() and N:
+        c = np.broadcast_to(np.asarray(res.setup.cold_index, int), (R,))
+        cold[np.flatnonzero(is_cold), c[is_cold]] = True
     T_boil = stack.scalar["T_boil"]
     flags = point_flag_arrays(T, nominal["V"], nominal["P_total"], nominal["p_vap"], T_boil,
                               stack.mask, cold)
@@ -286,6 +319,7 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
         bias_from=ro(np.where(bad, "", bias_n["from"]).astype(object)),
         comparison=MappingProxyType({k: ro(v) for k, v in cmp.items()}),
         self_consistent_rounds=ro(sc_rounds), self_consistent_error=ro(sc_err),
+        air_reference=MappingProxyType({k: ro(v) for k, v in how.items()}),
         robust_z=ro(z), point_only_u=ro(u_own))
     object.__setattr__(result, "findings", run_checks(result))
     return result

@@ -20,8 +20,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import display as D
 from ..constants import T_ZERO_C
 from ..errors import (
+    ChoiceWarning,
     ConvergenceWarning,
     ExtrapolationWarning,
     IllConditionedWarning,
@@ -38,7 +40,7 @@ from ..fitting.fit import chi2_limits
 from ..physics.liquids import melting_point
 from ..physics.reduce import FLAG_TEXT
 from .comparison import outside_range_text
-from .selfconsistent import SELF_CONSISTENT_TOL
+from .selfconsistent import LINE, SELF_CONSISTENT_TOL
 
 _IMPOSSIBLE = ("volume", "p_low", "p_high")
 
@@ -284,10 +286,33 @@ def _fit_checks(res, add) -> None:
         f"χ² = {f.chi2[r]:.1f} for {int(dof[r])} degrees of freedom is above its "
         f"{100 * lim['scatter_percentile']:g}th percentile ({chi_lim[r]:.1f}): scatter larger "
         "than the stated uncertainties"))
-    not_sc = (res.self_consistent_rounds > 0) & ~(res.self_consistent_error <= SELF_CONSISTENT_TOL)
+    _air_reference_checks(res, add)
+    not_sc = ((res.self_consistent_rounds > 0) & ~(res.self_consistent_error <= SELF_CONSISTENT_TOL)
+              & (res.air_reference["fallback"] == ""))  # a fallback says so itself
     add(not_sc, "not self-consistent", ConvergenceWarning, lambda r: (
         "the self-consistent p_vap at the air reference did not converge: relative mismatch "
         f"{res.self_consistent_error[r]:.1e} after {int(res.self_consistent_rounds[r])} rounds"))
+
+
+def _air_reference_checks(res, add) -> None:
+    """A self-consistent p_ref that came from the line, or that does not exist."""
+    how, model = res.air_reference, res.fit.model
+    closest = lambda r: (  # noqa: E731
+        f"closest attempt: g(p) - p = {D.number(how['best_G'][r] / 1e3, 'kPa', 3)} at "
+        f"p = {D.number(how['best_p'][r] / 1e3, 'kPa', 3)}")
+    add((how["model"] == LINE) & (model.name != LINE), "air reference from the line",
+        ChoiceWarning, lambda r: (
+            f"the {model.label} curve gives no stable self-consistent p_vap at the air "
+            f"reference (its curvature absorbs the air amount; {closest(r)}); p_vap there = "
+            f"{D.number(res.p_ref[r] / 1e3, 'kPa')} from the Clausius–Clapeyron line through "
+            "the same points"))
+    fell = how["fallback"] != ""
+    add(fell, "no self-consistent air reference", ConvergenceWarning, lambda r: (
+        f"no self-consistent p_vap at the air reference was found ({closest(r)}); "
+        + ("taken from the published equation instead" if how["fallback"][r] == "reference"
+           else "neglected instead (biased: ΔH_vap reads high)")
+        + f"; ΔH_vap is {D.signed((res.enthalpy[r] - how['best_enthalpy'][r]) / 1e3, 'kJ/mol', 2)}"
+        " from the closest attempt"))
 
 
 def _span(T, inc) -> float:

@@ -94,6 +94,13 @@ class Analysis:
     p_ref = property(lambda self: float(self.result.p_ref[self.index]))
 
     @property
+    def air_method(self) -> str:
+        """How the air amount was found: weighed, injected or cold (under air_from="auto",
+        the first method the run's record supports)."""
+        return str(np.broadcast_to(np.asarray(self.result.resolved.setup.air_from,
+                                              dtype=object), (self.result.stack.R,))[self.index])
+
+    @property
     def vapor_mode(self) -> str:
         """How p_vap at the air reference was taken: reference, fit, neglect or none."""
         return str(self.result.resolved.vapor_mode[self.index])
@@ -247,7 +254,7 @@ class Analysis:
         c = self.result.choices
         si = self.si
         base = self.enthalpy.nominal_value
-        here = (c.air_from, self.vapor_mode)
+        here = (self.air_method, self.vapor_mode)
         trials = {}
         has_cold = bool(np.min(si.T) < si.T_room)
         for air in AIR_METHODS:
@@ -297,7 +304,7 @@ def analyze(
     *,
     model: str = "clausius_clapeyron",
     weighting: str = "gls",
-    air_from: str = "weighed",
+    air_from: str = "auto",
     vapor_at_air_reference: str = "auto",
     cold_index: int | None = None,
     use_head: bool = True,
@@ -318,10 +325,13 @@ def analyze(
     run : Run or path
     model : {"clausius_clapeyron", "constant_dcp", "antoine"}
     weighting : {"gls", "weighted", "ordinary"}
-    air_from : {"weighed", "cold", "injected"}
+    air_from : {"auto", "weighed", "cold", "injected"}
         Air amount from the weighed room-temperature volume, from the cold
         reference reading (the coldest point unless ``cold_index``), or from
-        the injected volume (METHOD 2.3).
+        the injected volume (METHOD 2.3). "auto" (default) takes the first of
+        weighed, injected, cold that the run's record supports
+        (:data:`vpkit.analysis.choices.AUTO_AIR_ORDER`); ``Analysis.air_method``
+        says which.
     vapor_at_air_reference : {"auto", "reference", "fit", "neglect"}
         p_vap at the air-reference temperature: from the published equation,
         self-consistent with the fitted curve, or neglected. "auto" takes the

@@ -47,13 +47,13 @@ def results_columns(res, rows=None) -> dict:
     all_ok = res.ok
     ok = all_ok[idx]
     flags = [flags_of(res.findings[i]) for i in idx]
-    choices = res.choices
     data = {
         "run_id": [s.run_ids[i] for i in idx],
         "liquid": [s.liquid[i] for i in idx],
         "model": f.model.name,
         "weighting": f.weighting,
-        "air amount from": choices.air_from,
+        "air amount from": [str(m) for m in np.broadcast_to(
+            np.asarray(res.resolved.setup.air_from, dtype=object), (s.R,))[idx]],
         "p_vap at air reference": [str(res.resolved.vapor_mode[i]) for i in idx],
         "points used": np.where(ok, inc.sum(1), 0),
         "points total": s.n_points[idx],

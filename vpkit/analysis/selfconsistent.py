@@ -37,6 +37,8 @@ SELF_CONSISTENT_TOL = 1e-8
 SELF_CONSISTENT_ROUNDS = 30
 #: Passes that make the weights consistent with the dp/du term at one p.
 IMPLICIT_PASSES = 3
+#: The model of the fallback extrapolation to the air reference.
+LINE = "clausius_clapeyron"
 
 
 def _rows_layout(layout: InputLayout, idx) -> InputLayout:
@@ -63,8 +65,8 @@ def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, f
     dp_du = np.zeros(layout.nominal.shape)
     if implicit_from is not None:
         dp_du = _implicit_correction(J, J_pref, implicit_from, choices, layout, setup, nominal)
-    cov_y, cov_yT, cov_T = covariances(layout, J, choices.temperature_errors, _cold(setup),
-                                       J_pref, dp_du)
+    cov_y, cov_yT, cov_T = covariances(layout, J, choices.temperature_errors,
+                                       cold_columns(setup, len(idx)), J_pref, dp_du)
     if fit:
         fit = fit_stack(choices.model, np.where(mask, stack.T[idx], np.nan), lnp, fit_inc,
                         weighting=choices.weighting, cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T,
@@ -78,8 +80,13 @@ def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, f
             "p_ref": np.array(pref.values(nominal["T_ref"]), float)}
 
 
-def _cold(setup):
-    return np.asarray(setup.cold_index) if setup.air_from == "cold" else None
+def cold_columns(setup, R: int):
+    """Each run's cold-reference reading (-1 for runs without one), or None if no run has
+    one (the form :func:`vpkit.physics.propagate.covariances` takes)."""
+    cold = np.broadcast_to(setup.uses("cold"), (R,))
+    if not cold.any():
+        return None
+    return np.where(cold, np.broadcast_to(np.asarray(setup.cold_index, int), (R,)), -1)
 
 
 def _implicit_correction(J, J_pref, fit: StackFit, choices, layout, setup, nominal):
@@ -105,8 +112,9 @@ def _implicit_correction(J, J_pref, fit: StackFit, choices, layout, setup, nomin
     grad_ref = m.jac(T_ref, th)
     dg_du = g[:, None] * np.einsum("bp,bpm->bm", grad_ref, dth)
     rows = np.arange(len(T))
-    col = (np.asarray(setup.cold_index) if setup.air_from == "cold"
-           else np.full(len(T), layout.column("T_room")))
+    cold = np.broadcast_to(setup.uses("cold"), (len(T),))
+    col = np.where(cold, np.broadcast_to(np.asarray(setup.cold_index, int), (len(T),)),
+                   layout.column("T_room"))
     dg_du[rows, col] += g * m.df_dT(T_ref, th)
     dg_dp = g * np.einsum("bp,bp->b", grad_ref, psum(S * J_pref[:, None, :]))
     with np.errstate(all="ignore"):
@@ -115,14 +123,24 @@ def _implicit_correction(J, J_pref, fit: StackFit, choices, layout, setup, nomin
     return np.where(ok[:, None], dp_du, 0.0)
 
 
-def solve_fixed_point(G, p0: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def solve_fixed_point(G, p0: np.ndarray, hi: np.ndarray, best: dict | None = None
+                      ) -> tuple[np.ndarray, np.ndarray]:
     """Solve G(p) = 0 for a batch (p in [0, hi)): secant steps, then bisection.
 
-    Returns the roots and which were found (|G| <= 1e-11 max(p, 1)).
+    G(0) > 0 (a fitted vapor pressure is positive) and p = hi, where the air
+    amount vanishes, is a degenerate root; the physical root is the first sign
+    change of G going up from 0. Secant steps from ``p0`` are tried first; where
+    they do not settle below 0.9 hi, a scan of [1 Pa, hi) brackets the lowest sign
+    change from + to - and bisection finds it.
+
+    Returns the roots and which were found (|G| <= 1e-11 max(p, 1)). ``best``, if
+    given, receives ``p`` and ``G``: per row the evaluated p with the smallest |G|
+    (the closest attempt, for rows without a root).
     """
     p0 = np.clip(np.nan_to_num(p0), 1.0, hi)
     p1 = p0 * (1 + 1e-3)
     g0, g1 = G(p0), G(p1)
+    seen_p, seen_g = np.stack([p0, p1]), np.stack([g0, g1])
     tol = lambda p: 1e-11 * np.maximum(p, 1.0)  # noqa: E731
     done = np.isfinite(g1) & (np.abs(g1) <= tol(p1))
     for _ in range(40):
@@ -137,15 +155,16 @@ def solve_fixed_point(G, p0: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np
         done |= np.isfinite(g1) & (np.abs(g1) <= tol(p1))
         if not (good | done).any():
             break
+    done &= p1 < 0.9 * hi  # a root up at hi is the degenerate one (no air), not p_vap
     if done.all():
+        _keep_best(best, seen_p, seen_g, p1, g1, hi)
         return p1, done
-    # bisection in the bracket nearest the start, from a scan of [1 Pa, hi)
+    # bisection in the lowest bracket from + to -, from a scan of [1 Pa, hi)
     grid = np.exp(np.linspace(0.0, 1.0, 32)[None, :] * np.log(hi)[:, None])
     vals = np.stack([G(grid[:, k]) for k in range(grid.shape[1])], axis=1)
     change = (np.isfinite(vals[:, :-1]) & np.isfinite(vals[:, 1:])
-              & (np.sign(vals[:, :-1]) != np.sign(vals[:, 1:])))
-    dist = np.where(change, np.abs(np.log(grid[:, :-1] / np.maximum(p0, 1.0)[:, None])), np.inf)
-    k = np.argmin(dist, axis=1)
+              & (vals[:, :-1] > 0) & (vals[:, 1:] <= 0))
+    k = np.argmax(change, axis=1)
     bracket = ~done & change.any(axis=1)
     rows = np.arange(len(p0))
     a, b = grid[rows, k], grid[rows, k + 1]
@@ -159,7 +178,21 @@ def solve_fixed_point(G, p0: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np
         a, ga = np.where(left, mid, a), np.where(left, gm, ga)
         b = np.where(bracket & ~left, mid, b)
     found = bracket & (np.abs(b - a) <= 1e-12 * np.maximum(b, 1.0))
+    _keep_best(best, np.concatenate([seen_p, grid.T]), np.concatenate([seen_g, vals.T]), p1, g1,
+               hi)
     return np.where(done, p1, np.where(found, 0.5 * (a + b), np.nan)), done | found
+
+
+def _keep_best(best: dict | None, ps, gs, p1, g1, hi) -> None:
+    """The evaluated p with the smallest finite |G| per row (ps, gs: (k, n)), below 0.9 hi
+    (up at hi, G vanishes with the air amount: no attempt at p_vap)."""
+    if best is None:
+        return
+    ps, gs = np.concatenate([ps, p1[None]]), np.concatenate([gs, g1[None]])
+    score = np.where(np.isfinite(gs) & (ps < 0.9 * hi), np.abs(gs), np.inf)
+    k = np.argmin(score, axis=0)
+    rows = np.arange(ps.shape[1])
+    best["p"], best["G"] = ps[k, rows], np.where(np.isfinite(score[k, rows]), gs[k, rows], np.nan)
 
 
 def _at_p(stack, res, choices, idx, p, inc):
@@ -179,7 +212,9 @@ def self_consistent(stack, res, choices, idx, start, inc):
 
     Φ(p) is the p at which the fit with the weights found at p reproduces its
     own value at the air reference (secant steps at fixed weights); the outer
-    iteration solves Φ(p) = p by secant steps too.
+    iteration solves Φ(p) = p by secant steps too. The closest attempt of a run
+    that fails is the outer iterate with the smallest |g(p) - p| (weights found at
+    that p), or, before any round, the closest point of the first scan.
     """
     n = len(idx)
     p = np.nan_to_num(np.asarray(start, float))
@@ -190,6 +225,7 @@ def self_consistent(stack, res, choices, idx, start, inc):
     active = np.ones(n, bool)
     failed = np.zeros(n, bool)
     p_prev, h_prev = np.full(n, np.nan), np.full(n, np.nan)
+    best_p, best_g = np.full(n, np.nan), np.full(n, np.nan)
     for _ in range(SELF_CONSISTENT_ROUNDS):
         fit = cur["fit"]
         active &= fit.ok
@@ -199,7 +235,10 @@ def self_consistent(stack, res, choices, idx, start, inc):
         sub = idx[a]
         G = _fixed_weight_map(stack, res, choices, model, sub, fit, a)
         hi = stack.scalar["P_bar"][sub] * 0.999
-        phi, found = solve_fixed_point(G, p[a], hi)
+        seen: dict = {}
+        phi, found = solve_fixed_point(G, p[a], hi, seen)
+        first = np.isnan(best_g[a]) & (rounds[a] == 0)
+        best_p[a[first]], best_g[a[first]] = seen["p"][first], seen["G"][first]
         failed[a[~found]] = True
         active[a[~found]] = False
         h = phi - p[a]
@@ -217,9 +256,39 @@ def self_consistent(stack, res, choices, idx, start, inc):
             g = np.exp(model.f(nxt["nominal"]["T_ref"], nxt["fit"].params))
             e = np.abs(g - p[keep]) / np.maximum(p[keep], 1e-300)
         err[keep] = e
+        closer = ~(np.abs(g - p[keep]) >= np.abs(best_g[keep])) | (rounds[keep] == 1)
+        best_p[keep[closer]], best_g[keep[closer]] = p[keep][closer], (g - p[keep])[closer]
         cur = merge_rows(cur, keep, nxt)
         active[keep] = ~(e <= SELF_CONSISTENT_TOL)
-    return cur, p, rounds, err, failed
+    return cur, p, rounds, err, failed, {"p": best_p, "G": best_g}
+
+
+def solve_air_reference(stack, res, choices, idx, start, inc):
+    """The self-consistent p_ref of runs ``idx``, found wherever a solution exists.
+
+    First with the chosen model; for a three-parameter model without a root (its
+    curvature can absorb the air amount, so g(p) - p may stay above 0), with the
+    Clausius–Clapeyron line fitted to the same points with the same weights,
+    then the chosen model fitted at that p_ref with the line's dp/du. Returns the
+    rounds' arrays (as :func:`self_consistent`), the model each p_ref came from
+    (``""`` where none was found), and the closest attempt ``{"p", "G"}`` of the
+    chosen model for every run.
+    """
+    cur, p, rounds, err, failed, best = self_consistent(stack, res, choices, idx, start, inc)
+    how = np.where(failed, "", choices.model).astype(object)
+    pos = np.flatnonzero(failed)
+    if pos.size and choices.model != LINE:
+        line = dataclasses.replace(choices, model=LINE)
+        c2, p2, r2, e2, f2, _ = self_consistent(stack, res, line, idx[pos], start[pos], inc)
+        good = np.flatnonzero(~f2)
+        if good.size:
+            fin = reduce_and_fit(stack, res, choices, idx[pos[good]], p2[good], inc,
+                                 implicit_from=c2["fit"].take(good))
+            cur = merge_rows(cur, pos[good], fin)
+            p[pos[good]], rounds[pos[good]], err[pos[good]] = p2[good], r2[good], e2[good]
+            how[pos[good]] = LINE
+            failed[pos[good]] = False
+    return cur, p, rounds, err, failed, how, best
 
 
 def _fixed_weight_map(stack, res, choices, model, sub, fit, a):

@@ -14,6 +14,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 import math
 from dataclasses import dataclass, field
@@ -22,7 +23,7 @@ import numpy as np
 import uncertainties
 from scipy import stats
 
-from ..arrays import quad
+from ..arrays import quad, readonly
 from ..constants import P_STANDARD
 from ..errors import FitError
 from .models import Model
@@ -82,6 +83,21 @@ class StackFit:
     status: tuple[str, ...] = ()
     ill_conditioned: np.ndarray = field(default=None, repr=False)
     cov_method: str = "gls"
+
+    def take(self, idx) -> StackFit:
+        """The fits of the data sets at ``idx`` (an index array)."""
+        idx = np.asarray(idx, int)
+        n = len(self.params)
+        kw = {}
+        for f in dataclasses.fields(self):
+            v = getattr(self, f.name)
+            if f.name == "status":
+                kw[f.name] = tuple(v[i] for i in idx)
+            elif isinstance(v, np.ndarray) and v.ndim and len(v) == n:
+                kw[f.name] = readonly(v[idx])
+            else:
+                kw[f.name] = v
+        return StackFit(**kw)
 
     @functools.cached_property
     def ok(self) -> np.ndarray:

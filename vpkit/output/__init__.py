@@ -1,7 +1,8 @@
-"""What a person reads: figures, the run summary, the section report, and the one
-rounding rule they all use.
+"""What a person reads: figures, the run summary, the section report.
 
-- :mod:`.display`: numbers as text (GUM 7.2.6 rounding) in the chosen units.
+Every number in their text goes through :mod:`vpkit.display` (the one rounding rule,
+shared with the warnings' texts).
+
 - :mod:`.figures`: the report figure of a run and the overview of many (matplotlib
   Figures, no pyplot).
 - :mod:`.run_summary`: one run's Markdown summary and output files.

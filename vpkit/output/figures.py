@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 from matplotlib.figure import Figure
 
+from .. import display as D
 from ..constants import T_ZERO_C
-from . import display as D
 
 MM_PER_INCH = 25.4
 #: Journal column widths [mm]; common practice, no source (typical single and

@@ -10,7 +10,7 @@ from __future__ import annotations
 import html
 from pathlib import Path
 
-from . import display as D
+from .. import display as D
 
 #: CSV numbers: 15 significant digits (all a double holds, without the 17th-digit noise
 #: of unit conversions, e.g. 29.6 rather than 29.600000000000023).
@@ -25,7 +25,7 @@ SAFETY_NOTE = (
 
 AIR_TEXT = {
     "weighed": "the gas volume weighed at room temperature",
-    "cold": "the coldest reading of each run (a cold reference)",
+    "cold": "the coldest reading (a cold reference, set aside from the fit)",
     "injected": "the injected air volume at room conditions",
 }
 VAPOR_TEXT = {"reference": "taken from the published equation of the liquid",
@@ -150,7 +150,9 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
                      f"{D.number(C(c.normal_boiling_point), 'degC')} |")
     lines += ["", f"Trouton's rule: {r['Trouton'] or 'not computable'}.", "", "## Choices", "",
               f"- model: {f.model.label}; weighting: {WEIGHT_TEXT[f.weighting]}",
-              f"- air amount from: {AIR_TEXT[a.result.choices.air_from]}; p_vap at the air "
+              f"- air amount from: {AIR_TEXT[a.air_method]}"
+              + (" (chosen from what the run records)" if a.result.choices.air_from == "auto"
+                 else "") + "; p_vap at the air "
               f"reference: {VAPOR_TEXT[a.vapor_mode]}"
               + (f" ({int(r['self-consistent rounds'])} rounds)" if a.vapor_mode == "fit"
                  else ""),

@@ -17,7 +17,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import display as D
+from .. import display as D
 from .figures import overview_figure
 from .run_summary import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
 
@@ -44,15 +44,21 @@ def methods_paragraph(many) -> str:
             f"for the {n_depth} run(s) that record a depth") if c.use_head \
         else "no hydrostatic head was applied"
     n_excl = int((ok["points total"] - ok["points used"]).sum()) if len(ok) else 0
+    counts = ok["air amount from"].value_counts() if len(ok) else {}
+    air = "; ".join(f"{AIR_TEXT[m]} ({D.count(int(counts[m]), 'run')})"
+                    for m in ("weighed", "injected", "cold") if m in counts) or "no run"
+    how = (" (each run by the first method its record supports: the weighing, the injected "
+           "volume, the cold reading)" if c.air_from == "auto" else "")
     sessions = len(getattr(many, "sessions", {}) or {})
     return (
         f"Vapor pressures of {len(ok)} run(s) were obtained with the trapped-bubble method "
         "by subtracting the partial pressure of the trapped air from the total pressure on the "
-        "gas (Dalton's law, ideal gas). Gas volumes were corrected for the volume below the "
-        "zero mark, calibrated from the weighing (the trapped gas's own mass "
-        f"{'included' if c.gas_mass else 'ignored'}); {head}. The air amount came from "
-        f"{AIR_TEXT[c.air_from]}, with the vapor pressure at the air-reference temperature "
-        f"{vap}."
+        "gas (Dalton's law, ideal gas). Gas volumes were the readings corrected for the volume "
+        "below the zero mark, calibrated from the weighing where a run has one (the trapped "
+        f"gas's own mass {'included' if c.gas_mass else 'ignored'}) and otherwise the stated "
+        "scale offset; bubble lengths in a capillary were multiplied by its cross-section; "
+        f"{head}. The air amount came from {air}{how}, with the vapor pressure at the "
+        f"air-reference temperature {vap}."
         + (" The liquid floated on water touching the bubble, so the saturation pressure of "
            "water (IAPWS-95) was subtracted as well, at every point and at the air "
            "reference." if c.water_layer else "")

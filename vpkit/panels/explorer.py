@@ -15,9 +15,9 @@ from pathlib import Path
 
 import ipywidgets as W
 
+from .. import display as D
 from ..analysis.one_run import Analysis, analyze
 from ..errors import VpkitError
-from ..output import display as D
 from ..output.figures import COLUMN_WIDTHS
 from ..output.run_summary import SAFETY_NOTE, write_outputs
 from ..physics.liquids import canonical_name, has_reference

@@ -19,14 +19,15 @@ MODELS = [("Clausius–Clapeyron, full covariance (GLS)", ("clausius_clapeyron",
           ("Clausius–Clapeyron, unweighted", ("clausius_clapeyron", "ordinary")),
           ("constant ΔCp (Kirchhoff), GLS", ("constant_dcp", "gls")),
           ("Antoine, GLS", ("antoine", "gls"))]
-AIR = [("weighed room-temperature volume", "weighed"), ("cold reference reading", "cold"),
+AIR = [("automatic (what the run records)", "auto"),
+       ("weighed room-temperature volume", "weighed"), ("cold reference reading", "cold"),
        ("injected volume", "injected")]
 VAPOR = [("automatic", "auto"), ("published equation", "reference"),
          ("self-consistent with the fit", "fit"), ("neglected (biased)", "neglect")]
 PRESSURE_UNITS = ["kPa", "Pa", "hPa", "mbar", "bar", "atm", "mmHg", "Torr", "inHg"]
 TEMPERATURE_UNITS = [("°C", "degC"), ("K", "K"), ("°F", "degF")]
 DEFAULT_CHOICES: dict[str, Any] = {
-    "model": "clausius_clapeyron", "weighting": "gls", "air_from": "weighed",
+    "model": "clausius_clapeyron", "weighting": "gls", "air_from": "auto",
     "vapor_at_air_reference": "auto", "use_head": True, "gas_mass": True,
     "bubble_depth": None, "reference_liquid": None, "pressure_unit": "kPa",
     "temperature_unit": "degC", "water_layer": False,

@@ -8,7 +8,7 @@ from collections.abc import Callable
 import ipywidgets as W
 import numpy as np
 
-from ..output import display as D
+from .. import display as D
 
 
 class PointRows:

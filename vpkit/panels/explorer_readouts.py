@@ -3,7 +3,7 @@
 Nothing here computes physics: the numbers come from
 :func:`vpkit.analysis.result_tables.results_columns` (the same numbers every
 report shows) and :meth:`Analysis.boiling_point`; text comes from
-:mod:`vpkit.output.display` (the one rounding rule).
+:mod:`vpkit.display` (the one rounding rule).
 """
 
 from __future__ import annotations
@@ -13,11 +13,11 @@ from collections.abc import Callable
 
 import numpy as np
 
+from .. import display as D
 from ..analysis.result_tables import results_columns
 from ..constants import T_ZERO_C
 from ..errors import VpkitError
-from ..output import display as D
-from ..output.run_summary import bias_text
+from ..output.run_summary import AIR_TEXT, VAPOR_TEXT, bias_text
 from ..record.cells import parse_number
 from ..units import to_si
 
@@ -63,6 +63,8 @@ def readouts_html(r: dict, a, fmt_t: Callable, fmt_p: Callable, temperature_unit
     if np.isfinite(r["true_enthalpy"]):
         lines[0] += (" &nbsp; true ΔvapH = " + D.value_u(r["true_enthalpy"] / 1e3,
                                                        r["u_true_enthalpy"] / 1e3, "kJ/mol"))
+    lines.append(f"air amount from {html.escape(AIR_TEXT[a.air_method])}; p_vap at the air "
+                 f"reference {html.escape(VAPOR_TEXT.get(a.vapor_mode, 'not needed'))}")
     lines.append(html.escape(r["trouton"]))
     lines.append(f"boiling point at the run's pressure ({fmt_p(a.si.P_bar)}): "
                  f"{fmt_t(r['T_b_run'], r['u_T_b_run'])}; at 101.325 kPa: "

@@ -15,8 +15,8 @@ import numpy as np
 from matplotlib.collections import LineCollection
 from matplotlib.figure import Figure
 
+from .. import display as D
 from ..constants import T_ZERO_C
-from ..output import display as D
 
 MM_PER_INCH = 25.4
 

@@ -14,8 +14,8 @@ import io
 
 import ipywidgets as W
 
+from .. import display as D
 from ..analysis.many_runs import analyze_many
-from ..output import display as D
 from ..output.figures import overview_figure
 from ..output.run_summary import SAFETY_NOTE
 from .explorer import RunPanel

@@ -13,9 +13,9 @@ import time
 import ipywidgets as W
 import numpy as np
 
+from .. import display as D
 from ..constants import T_ZERO_C
 from ..errors import VpkitError
-from ..output import display as D
 from ..output.run_summary import SAFETY_NOTE
 from ..physics.curves import reference_curve
 from ..physics.liquids import canonical_name

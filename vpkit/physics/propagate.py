@@ -92,17 +92,19 @@ def build_inputs(stack: RunStack, setup: ReductionSetup, density: np.ndarray,
     sigma = [np.where(mask, col(u["T"]), 0.0), np.where(mask, col(u["reading"]), 0.0),
              np.where(own, col(u["pressure"]), 0.0)]
     weighing = np.broadcast_to(np.asarray(setup.offset_from_weighing, bool), (R,))
+    injected = np.broadcast_to(setup.uses("injected"), (R,))
     use_head = np.broadcast_to(np.asarray(setup.use_head, bool), (R,))
     used = {
         "P_bar": np.ones(R, bool), "T_room": np.ones(R, bool),
         "room_reading": ~np.isnan(s["room_reading"]), "mass_before": weighing,
-        "mass_after": weighing, "scale_offset": ~weighing, "density": np.ones(R, bool),
-        "V_injected": np.full(R, setup.air_from == "injected"),
+        "mass_after": weighing, "scale_offset": ~weighing & ~np.isnan(s["scale_offset"]),
+        "density": np.ones(R, bool),
+        "V_injected": injected,
         "depth": use_head & ~np.isnan(depth),
-        "room_depth": np.full(R, setup.air_from == "weighed")
+        "room_depth": np.broadcast_to(setup.uses("weighed"), (R,))
         & np.broadcast_to(np.asarray(setup.room_head, bool), (R,)) & ~np.isnan(s["room_depth"]),
-        "bore": use_head & ~np.isnan(depth) & ~np.isnan(s["bore"]),
-        "RH": np.full(R, setup.air_from == "injected")
+        "bore": ((use_head & ~np.isnan(depth)) | stack.length_readings) & ~np.isnan(s["bore"]),
+        "RH": injected
         & np.broadcast_to(np.asarray(setup.moisture_dissolves, bool), (R,)) & ~np.isnan(s["RH"]),
     }
     unc = {k: u[k] for k in _STACK_SCALAR}
@@ -171,20 +173,20 @@ def jacobian(layout: InputLayout, setup: ReductionSetup, p_ref: ReferenceAtAir,
     N = layout.N
     h = step_sizes(layout)
     dirs = []  # (R, m) perturbation of each direction
-    cold = setup.air_from == "cold"
+    cold = np.broadcast_to(setup.uses("cold"), (R,))
     c = np.broadcast_to(np.asarray(setup.cold_index, int), (R,))
+    cr = np.flatnonzero(cold)  # runs with a cold reference: its readings move every point
     for k in range(len(POINT_INPUTS)):
         cols = slice(k * N, (k + 1) * N)
         if not layout.sigma[:, cols].any():
             continue
         d = np.zeros((R, m))
         d[:, cols] = h[:, cols] * mask
-        if cold:
-            d[np.arange(R), k * N + c] = 0.0
+        d[cr, k * N + c[cr]] = 0.0
         dirs.append(("group", k, d))
-        if cold:  # after the group: its column of the cold point overwrites the group's
+        if cr.size:  # after the group: its column of the cold point overwrites the group's
             e = np.zeros((R, m))
-            e[np.arange(R), k * N + c] = h[np.arange(R), k * N + c] * mask[np.arange(R), c]
+            e[cr, k * N + c[cr]] = h[cr, k * N + c[cr]] * mask[cr, c[cr]]
             dirs.append(("cold", k, e))
     for j in range(3 * N, m):
         if layout.sigma[:, j].any():
@@ -200,7 +202,6 @@ def jacobian(layout: InputLayout, setup: ReductionSetup, p_ref: ReferenceAtAir,
     with np.errstate(invalid="ignore", divide="ignore"):
         lnp = np.log(out["p_vap"])
     J = np.zeros((R, N, m))
-    rows = np.arange(R)
     with np.errstate(invalid="ignore", divide="ignore"):
         for q, (kind, k, _) in enumerate(dirs):
             diff = lnp[:, 2 * q] - lnp[:, 2 * q + 1]
@@ -208,8 +209,8 @@ def jacobian(layout: InputLayout, setup: ReductionSetup, p_ref: ReferenceAtAir,
                 cols = np.arange(k * N, (k + 1) * N)
                 J[:, np.arange(N), cols] = diff / (2 * h[:, cols])
             elif kind == "cold":
-                j = k * N + c
-                J[rows, :, j] = diff / (2 * h[rows, j])[:, None]
+                j = k * N + c[cr]
+                J[cr, :, j] = diff[cr] / (2 * h[cr, j])[:, None]
             else:
                 J[:, :, k] = diff / (2 * h[:, k])[:, None]
     J = np.where((layout.sigma[:, None, :] > 0) & mask[:, :, None], J, 0.0)
@@ -249,15 +250,19 @@ def covariances(layout: InputLayout, J: np.ndarray, temperature_errors: bool = T
     for k in range(3):
         cols = k * N + i
         own = J[:, i, cols] * sig[:, cols]
-        if cold_index is not None:
-            c = np.asarray(cold_index, int)
-            dense.append((J[rows, :, k * N + c] * sig[rows, k * N + c][:, None])[:, :, None])
+        if cold_index is not None:  # -1: the run has no cold reference
+            ci = np.asarray(cold_index, int)
+            has, c = ci >= 0, np.maximum(ci, 0)
+            col = np.where(has[:, None], J[rows, :, k * N + c] * sig[rows, k * N + c][:, None],
+                           0.0)
+            dense.append(col[:, :, None])
             if dp_du is not None:
-                weights.append((sig[rows, k * N + c] * dp_du[rows, k * N + c])[:, None])
+                weights.append(np.where(has, sig[rows, k * N + c] * dp_du[rows, k * N + c],
+                                        0.0)[:, None])
             else:
                 weights.append(np.zeros((R, 1)))
             own = own.copy()
-            own[rows, c] = 0.0
+            own[rows[has], c[has]] = 0.0
         diag = diag + own * own
         if dp_du is not None:
             cross = cross + own * sig[:, cols] * dp_du[:, cols]

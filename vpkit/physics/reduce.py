@@ -73,7 +73,11 @@ def bubble_volume(reading, offset, direction=1):
 
 
 def total_pressure(P, depth=0.0, rho_liquid=0.0):
-    """Pressure on the trapped gas: P + rho g h, h below the bath surface [Pa]."""
+    """Pressure on the trapped gas: P + rho g h, h below the bath surface [Pa].
+
+    No head (h = 0) adds nothing, whatever the density (a run that states none)."""
+    if isinstance(depth, np.ndarray) or isinstance(rho_liquid, np.ndarray):
+        return P + np.where(np.asarray(depth) == 0, 0.0, rho_liquid * G_N * depth)
     return P + rho_liquid * G_N * depth
 
 
@@ -111,8 +115,9 @@ class ReductionSetup:
 
     Attributes
     ----------
-    air_from : {"weighed", "cold", "injected"}
-        How the air amount is found (METHOD 2.3 c, b, a); one method per call.
+    air_from : {"weighed", "cold", "injected"} or ndarray of them (R,)
+        How the air amount is found (METHOD 2.3 c, b, a): one method for every run,
+        or each run's own.
     gas_mass : bool
         Count the trapped gas's own mass in the weighing.
     direction : int or ndarray (R,)
@@ -133,9 +138,14 @@ class ReductionSetup:
         The liquid floats on water that also touches the gas: water's saturation
         pressure (IAPWS-95) is subtracted as well, at every point and at the air
         reference (Dalton's law with three components) [1].
+    length_readings : bool or ndarray (R,)
+        The readings (and the room reading) are bubble lengths in a capillary of
+        inner diameter ``bore``: a volume is length x π bore²/4, and the scale
+        offset is 0 unless a ``scale_offset`` is given (the length is measured from
+        the closed end).
     """
 
-    air_from: str = "weighed"
+    air_from: str | np.ndarray = "weighed"
     gas_mass: bool = True
     direction: int | np.ndarray = 1
     offset_from_weighing: bool | np.ndarray = True
@@ -144,6 +154,11 @@ class ReductionSetup:
     room_head: bool | np.ndarray = False
     moisture_dissolves: bool | np.ndarray = False
     water_layer: bool = False
+    length_readings: bool | np.ndarray = False
+
+    def uses(self, method: str) -> np.ndarray:
+        """Which runs find their air amount by ``method`` (a bool, or bools (R,))."""
+        return np.asarray(self.air_from) == method
 
 
 def _b(value, like):
@@ -191,17 +206,21 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
         V_room_w = room_gas_volume(get("mass_before"), get("mass_after"), get("density"),
                                    rho_gas)
         weighing = _b(setup.offset_from_weighing, P_bar)
-        offset = np.where(weighing, scale_offset(V_room_w, get("room_reading"), d),
-                          get("scale_offset"))
-        V_room = np.where(weighing, V_room_w, bubble_volume(get("room_reading"), offset, d))
-        V = bubble_volume(x["reading"], offset[..., None], d[..., None])
+        bore = get("bore")
+        length = _b(setup.length_readings, P_bar)
+        area = np.where(length, np.pi * bore**2 / 4.0, 1.0)  # a capillary: length -> volume
+        room = get("room_reading") * area
+        given = get("scale_offset")
+        offset = np.where(weighing, scale_offset(V_room_w, room, d),
+                          np.where(length & np.isnan(given), 0.0, given))
+        V_room = np.where(weighing, V_room_w, bubble_volume(room, offset, d))
+        V = bubble_volume(x["reading"] * area[..., None], offset[..., None], d[..., None])
         P_point = x.get("P")
         P = (np.broadcast_to(P_bar[..., None], np.shape(T)) if P_point is None
              else np.where(np.isnan(P_point), P_bar[..., None], P_point))
         head = _b(setup.use_head, P_bar) & np.isfinite(get("depth"))
         depth = np.where(head, get("depth"), 0.0)
-        bore = get("bore")
-        moves = head & np.isfinite(bore)
+        moves = head & np.isfinite(bore) & np.isfinite(V_room)
         travel = np.where(moves[..., None], (V - V_room[..., None])
                           / (np.pi * np.where(moves, bore, 1.0)[..., None] ** 2 / 4.0), 0.0)
         rho = get("density")[..., None]
@@ -209,27 +228,38 @@ def reduce_chain(x: Mapping[str, np.ndarray], setup: ReductionSetup, p_ref) -> d
         # over a water layer the water's vapor is one more partial pressure (Dalton)
         water = (lambda t: _water_vapor_pressure(t)) if setup.water_layer else (
             lambda t: 0.0)
-        if setup.air_from == "injected":
-            dry = np.where(_b(setup.moisture_dissolves, P_bar) & np.isfinite(get("RH")),
-                           get("RH") * _water_vapor_pressure(T_room), 0.0)
-            n_air = air_amount(P_bar, dry, get("V_injected"), T_room)
-        elif setup.air_from == "weighed":
-            h_room = np.where(np.isfinite(get("room_depth")), get("room_depth"),
-                              np.where(moves, depth, np.nan))
-            h_room = np.where(_b(setup.room_head, P_bar) & np.isfinite(h_room), h_room, 0.0)
-            P_room = total_pressure(P_bar, h_room, get("density"))
-            n_air = air_amount(P_room, p_ref + water(T_room), V_room, T_room)
-        elif setup.air_from == "cold":
-            c = np.broadcast_to(_b(setup.cold_index, P_bar), np.shape(P_bar)).astype(int)
-            take = lambda a: np.take_along_axis(  # noqa: E731
-                a, np.broadcast_to(c[..., None], np.shape(a)[:-1] + (1,)), axis=-1)[..., 0]
-            n_air = air_amount(take(P_total), p_ref + water(take(T)), take(V), take(T))
-        else:
+        methods = np.asarray(setup.air_from)
+        which = {m: methods == m for m in AIR_METHODS}
+        if not np.logical_or.reduce([w for w in which.values()], axis=0).all():
             raise ValueError(f"air_from must be one of {AIR_METHODS}, got {setup.air_from!r}")
+        n_air = None
+        for method in (m for m in AIR_METHODS if which[m].any()):
+            n_m = _air_amount_by(method, x, setup, get, P_total, V, T, V_room, depth, moves,
+                                 p_ref, water)
+            n_air = n_m if n_air is None else np.where(_b(which[method], P_bar), n_m, n_air)
         p_air = air_partial_pressure(n_air[..., None], V, T)
         p_vap = vapor_pressure(P_total, p_air) - water(T)
     return {"V": V, "P_total": P_total, "p_air": p_air, "p_vap": p_vap, "n_air": n_air,
             "V_room": V_room}
+
+
+def _air_amount_by(method, x, setup, get, P_total, V, T, V_room, depth, moves, p_ref, water):
+    """The air amount of every run of the batch by one method (METHOD 2.3)."""
+    P_bar, T_room = x["P_bar"], x["T_room"]
+    if method == "injected":
+        dry = np.where(_b(setup.moisture_dissolves, P_bar) & np.isfinite(get("RH")),
+                       get("RH") * _water_vapor_pressure(T_room), 0.0)
+        return air_amount(P_bar, dry, get("V_injected"), T_room)
+    if method == "weighed":
+        h_room = np.where(np.isfinite(get("room_depth")), get("room_depth"),
+                          np.where(moves, depth, np.nan))
+        h_room = np.where(_b(setup.room_head, P_bar) & np.isfinite(h_room), h_room, 0.0)
+        P_room = total_pressure(P_bar, h_room, get("density"))
+        return air_amount(P_room, p_ref + water(T_room), V_room, T_room)
+    c = np.broadcast_to(_b(setup.cold_index, P_bar), np.shape(P_bar)).astype(int)
+    take = lambda a: np.take_along_axis(  # noqa: E731
+        a, np.broadcast_to(c[..., None], np.shape(a)[:-1] + (1,)), axis=-1)[..., 0]
+    return air_amount(take(P_total), p_ref + water(take(T)), take(V), take(T))
 
 
 def _water_vapor_pressure(T):
@@ -242,11 +272,13 @@ def _water_vapor_pressure(T):
 
 def air_reference_temperature(x: Mapping[str, np.ndarray], setup: ReductionSetup):
     """Temperature at which the air amount is fixed (room or cold reading) [K]."""
-    if setup.air_from == "cold":
-        c = np.broadcast_to(_b(setup.cold_index, x["T_room"]), np.shape(x["T_room"]))
-        idx = np.broadcast_to(c.astype(int)[..., None], np.shape(x["T"])[:-1] + (1,))
-        return np.take_along_axis(x["T"], idx, axis=-1)[..., 0]
-    return x["T_room"]
+    cold = setup.uses("cold")
+    if not cold.any():
+        return x["T_room"]
+    c = np.broadcast_to(_b(setup.cold_index, x["T_room"]), np.shape(x["T_room"]))
+    idx = np.broadcast_to(c.astype(int)[..., None], np.shape(x["T"])[:-1] + (1,))
+    T_cold = np.take_along_axis(x["T"], idx, axis=-1)[..., 0]
+    return T_cold if cold.ndim == 0 else np.where(_b(cold, x["T_room"]), T_cold, x["T_room"])
 
 
 #: Point flags: key -> plain-language text (the value that triggered it is added).

@@ -30,10 +30,10 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from .. import display as D
 from ..analysis.choices import resolve
 from ..analysis.one_run import analyze
 from ..errors import BadValueError
-from ..output import display as D
 from ..physics.propagate import ReferenceAtAir, build_inputs, evaluate
 from ..record.assemble import stack_runs
 from ..record.run import Run

@@ -22,7 +22,7 @@ import numpy as np
 
 from ..arrays import readonly
 from ..errors import InputError, UnitError
-from ..units import to_si
+from ..units import reading_kind, to_si
 from .fields import FIELDS
 from .run import Run
 from .stack import QUANTITY, SCALARS, U_KEYS, Columns, RunSI, RunStack, frozen_map
@@ -57,7 +57,7 @@ def assemble(c: Columns) -> tuple[RunStack, list[tuple[int, InputError]]]:
         readonly(pad(c.reason, "", object)), readonly(rows),
         MappingProxyType({k: readonly(np.asarray(c.scalar[k], float)) for k in SCALARS}),
         readonly(np.asarray(c.direction, int)), frozen_map(uncertainties(c)),
-        tuple(c.places))
+        tuple(c.places), readonly(c.length_readings))
     failures = check(stack, c)
     if failures:
         bad = np.zeros(R, bool)
@@ -127,16 +127,17 @@ def _run_columns(run: Run) -> dict:
         except UnitError as exc:
             raise UnitError(f"{name}: {exc.message}", file=src, row=run.row_of_entry(name),
                             column="unit", hint=exc.hint) from exc
-    for key, name, kind in (("reading", "reading_uncertainty", "volume"),
+    tu, ru, pu = run.units
+    for key, name, kind in (("reading", "reading_uncertainty", "reading"),
                             ("T", "temperature_uncertainty", "temperature")):
         e = run.entry(name)
         given[key] = (np.nan if e is None or isinstance(e.value, str)
                       else float(to_si(e.value, e.unit, kind, delta=kind == "temperature")))
     given["pressure"] = np.nan
-    tu, ru, pu = run.units
+    _same_kind_as_readings(run, ru)
     n = run.n_points
     T = to_si(np.asarray(run.bath_temperature, float), tu, "temperature")
-    reading = to_si(np.asarray(run.reading, float), ru, "volume")
+    reading = to_si(np.asarray(run.reading, float), ru, "reading")
     pressure = np.array([np.nan if p is None else p for p in run.pressure], float)
     if pu:
         pressure = to_si(pressure, pu, "pressure")
@@ -148,6 +149,21 @@ def _run_columns(run: Run) -> dict:
             "scalar": scalar, "given": given,
             "direction": parse_direction("" if ge is None else ge.value),
             "T_unit": tu, "reading_unit": ru, "pressure_unit": pu, "places": places}
+
+
+def _same_kind_as_readings(run: Run, reading_unit: str) -> None:
+    """Entries of the readings' kind (room reading, reading uncertainty, resolution) must be
+    volumes when the readings are volumes and lengths when they are bubble lengths."""
+    want = reading_kind(reading_unit)
+    for name, (kind, _, _) in FIELDS.items():
+        e = run.entry(name)
+        if kind != "reading" or e is None or isinstance(e.value, str):
+            continue
+        if reading_kind(e.unit) != want:
+            raise UnitError(f"{name} is a {reading_kind(e.unit)} ({e.unit}) but the readings "
+                            f"are {want}s ({reading_unit})", file=run.source,
+                            row=run.row_of_entry(name), column="unit",
+                            hint=f"give {name} in the readings' unit, {reading_unit}")
 
 
 def _join(ids: Sequence[str], parts: Sequence[dict]) -> Columns:

@@ -19,7 +19,7 @@ from ..units import check_unit
 from .fields import FIELDS, Entry
 
 _READING_COLUMNS = ("bath_temperature", "reading", "pressure", "include", "reason")
-_READING_KINDS = {"bath_temperature": "temperature", "reading": "volume", "pressure": "pressure"}
+_READING_KINDS = {"bath_temperature": "temperature", "reading": "reading", "pressure": "pressure"}
 _TRUE = {"yes", "y", "true", "1", "x", "include", "included", ""}
 _FALSE = {"no", "n", "false", "0", "exclude", "excluded"}
 

@@ -11,12 +11,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 #: Metadata the run section understands: name -> (kind, required, description).
-#: kind is a unit kind of :mod:`vpkit.units`, or "text".
+#: kind is a unit kind of :mod:`vpkit.units`, or "text"; "reading" is the kind of the
+#: readings themselves (a volume, or a bubble length in a capillary).
 FIELDS: dict[str, tuple[str, bool, str]] = {
     "liquid": ("text", True, "name of the liquid (see vpkit.liquids())"),
     "barometric_pressure": ("pressure", True, "barometric pressure during the run"),
     "room_temperature": ("temperature", True, "room temperature at the weighing"),
-    "room_reading": ("volume", False, "graduation reading at room temperature, at the weighing"),
+    "room_reading": ("reading", False, "graduation reading at room temperature, at the weighing"),
     "mass_before_air": ("mass", False, "tube + liquid before the air was added"),
     "mass_after_air": ("mass", False, "tube + liquid after the air was added"),
     "liquid_density": ("density", False, "liquid density at room temperature, or 'reference'"),
@@ -28,14 +29,15 @@ FIELDS: dict[str, tuple[str, bool, str]] = {
     "room_depth": ("length", False, "depth of the interface below the liquid surface at the "
                    "room reading (the weighing); default: no head there"),
     "tube_bore": ("length", False, "inner diameter of the tube: the interface then moves down "
-                  "by (V - V_room)/(pi bore^2/4) as the bubble grows"),
+                  "by (V - V_room)/(pi bore^2/4) as the bubble grows; with readings in a "
+                  "length unit (a capillary) the readings are bubble lengths of that bore"),
     "injected_air_humidity": ("fraction", False, "relative humidity of the injected air "
                               "(%, for the injected air amount)"),
-    "reading_resolution": ("volume", False, "smallest graduation step; without "
+    "reading_resolution": ("reading", False, "smallest graduation step; without "
                            "reading_uncertainty, u(reading) = resolution/sqrt(12)"),
     "tube_capacity": ("volume", False, "largest gas volume the tube holds (its full scale)"),
     "boiling_point": ("temperature", False, "measured boiling point at the barometric pressure"),
-    "reading_uncertainty": ("volume", False, "standard uncertainty of one graduation reading"),
+    "reading_uncertainty": ("reading", False, "standard uncertainty of one graduation reading"),
     "temperature_uncertainty": ("temperature", False, "standard uncertainty of one bath reading"),
     "notes": ("text", False, "free text"),
 }
@@ -48,6 +50,7 @@ FIELDS: dict[str, tuple[str, bool, str]] = {
 #: tabulated densities.
 DEFAULT_UNCERTAINTY: dict[str, float] = {
     "reading_uncertainty": 0.005e-6,  # m^3
+    "reading_uncertainty_length": 0.5e-3,  # m, a bubble length read against a mm scale
     "temperature_uncertainty": 0.2,  # K
     "barometric_pressure": 100.0,  # Pa
     "pressure": 100.0,  # Pa, per-point pressure

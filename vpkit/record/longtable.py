@@ -26,7 +26,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import BadValueError, InputError, RunFileError, UnitError, VpkitError
-from ..units import check_unit, to_si
+from ..units import check_unit, reading_kind, to_si
 from .assemble import assemble, parse_direction, stack_runs
 from .fields import FIELDS, Entry
 from .run import Run
@@ -34,7 +34,7 @@ from .runfile import read_run
 from .stack import QUANTITY, U_KEYS, Columns, RunStack
 
 READING_NAMES = ("bath_temperature", "reading", "pressure", "include", "reason")
-_POINT = {"bath_temperature": ("T", "temperature"), "reading": ("reading", "volume"),
+_POINT = {"bath_temperature": ("T", "temperature"), "reading": ("reading", "reading"),
           "pressure": ("pressure", "pressure")}
 _U_OF = {"bath_temperature": "T", "reading": "reading", "pressure": "pressure",
          **{q: k for k, q in QUANTITY.items() if k != "density"}}
@@ -209,6 +209,13 @@ class _TableReader:
                        "write yes or no (empty means yes)")
         labels = {name: str(col) for name, col in cols.items()}
         unit = lambda name: split_header(cols[name])[1] if name in cols else ""  # noqa: E731
+        kind = reading_kind(unit("reading"))
+        for name in ("room_reading", "reading_resolution", "u(reading)", "u(room_reading)"):
+            if name in cols and reading_kind(unit(name)) != kind:
+                raise UnitError(f"column {cols[name]!r} is a {reading_kind(unit(name))} but "
+                                f"the readings are {kind}s", file=self.source, row=1,
+                                column=str(cols[name]),
+                                hint=f"give it in the readings' unit, {unit('reading')}")
         return Columns(
             run_ids=[str(x) for x in self.run_ids], liquid=[str(x) for x in liquid],
             sources=[self.source] * R, run=self.run.astype(int), T=point["T"],

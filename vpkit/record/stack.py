@@ -26,6 +26,7 @@ from types import MappingProxyType
 import numpy as np
 
 from ..arrays import readonly
+from ..units import reading_kind
 
 #: Per-run quantities (keys of ``RunStack.scalar``) and their run-file names.
 QUANTITY: dict[str, str] = {
@@ -77,6 +78,7 @@ class RunSI:
     RH: float | None = None
     resolution: float | None = None
     capacity: float | None = None
+    length_readings: bool = False
 
 
 @dataclass(frozen=True)
@@ -104,6 +106,9 @@ class RunStack:
         Standard uncertainties (keys :data:`U_KEYS`).
     places : tuple of mapping
         Per run, quantity -> (row, column label) for messages.
+    length_readings : ndarray of bool, shape (R,)
+        The readings (and ``room_reading``) are bubble lengths in a capillary of bore
+        ``tube_bore`` [m], not volumes [m^3].
     """
 
     run_ids: tuple[str, ...]
@@ -120,6 +125,12 @@ class RunStack:
     direction: np.ndarray
     u: Mapping[str, np.ndarray]
     places: tuple[Mapping[str, tuple[int | None, str]], ...] = field(repr=False)
+    length_readings: np.ndarray = field(default=None, repr=False)
+
+    def __post_init__(self) -> None:
+        if self.length_readings is None:
+            object.__setattr__(self, "length_readings", readonly(np.zeros(len(self.run_ids),
+                                                                          bool)))
 
     @property
     def R(self) -> int:
@@ -144,7 +155,7 @@ class RunStack:
             pick(self.pressure), pick(self.mask), pick(self.include), pick(self.reason),
             pick(self.rows), frozen_map({k: v[idx] for k, v in self.scalar.items()}),
             readonly(self.direction[idx]), frozen_map({k: v[idx] for k, v in self.u.items()}),
-            tuple(self.places[i] for i in idx))
+            tuple(self.places[i] for i in idx), readonly(self.length_readings[idx]))
 
     def row(self, r: int) -> RunSI:
         """The SI view of run ``r`` (trimmed to its own points)."""
@@ -162,7 +173,7 @@ class RunStack:
             direction=int(self.direction[r]), depth=opt["depth"], T_boil=opt["T_boil"],
             u={k: float(v[r]) for k, v in self.u.items()}, room_depth=opt["room_depth"],
             bore=opt["bore"], RH=opt["RH"], resolution=opt["resolution"],
-            capacity=opt["capacity"])
+            capacity=opt["capacity"], length_readings=bool(self.length_readings[r]))
 
     def place(self, r: int, name: str, point: int | None = None) -> dict:
         """``file``, ``row`` and ``column`` of a quantity (or of point ``point``)."""
@@ -200,6 +211,12 @@ class Columns:
     places: list[dict[str, tuple[int | None, str]]]
     reading_unit: list[str] = field(default_factory=list)
     pressure_unit: list[str] = field(default_factory=list)
+
+    @property
+    def length_readings(self) -> np.ndarray:
+        """Per run: the readings are bubble lengths (their unit is a length)."""
+        return np.array([bool(u) and reading_kind(u) == "length" for u in self.reading_unit]
+                        if self.reading_unit else [False] * len(self.run_ids), bool)
 
 
 def frozen_map(d: dict[str, np.ndarray]) -> Mapping[str, np.ndarray]:

@@ -39,6 +39,13 @@ LIMITS = {
     "capacity": (1e-8, 1e-3, "outside 0.01 mL to 1 L"),
 }
 
+#: The same limits for entries of the readings' kind when the readings are bubble lengths
+#: in a capillary, in m (common practice, no source).
+LENGTH_LIMITS = {
+    "room_reading": (-2.0, 2.0, "longer than any capillary (2 m)"),
+    "resolution": (1e-7, 0.1, "outside 0.1 µm to 10 cm"),
+}
+
 SI_UNIT = {"P_bar": "Pa", "T_room": "K", "T_boil": "K", "mass_before": "kg", "mass_after": "kg",
            "room_reading": "m^3", "V_injected": "m^3", "scale_offset": "m^3",
            "density": "kg/m^3", "depth": "m", "room_depth": "m", "bore": "m", "RH": "",
@@ -75,6 +82,8 @@ def uncertainties(c: Columns) -> dict[str, np.ndarray]:
     g = c.given_u
     u = {k: np.where(np.isnan(g[k]), d, g[k]) for k, d in DEFAULTS.items()}
     res = c.scalar["resolution"]
+    u["reading"] = np.where(np.isnan(g["reading"]) & c.length_readings,
+                            DEFAULT_UNCERTAINTY["reading_uncertainty_length"], u["reading"])
     u["reading"] = np.where(np.isnan(g["reading"]) & np.isfinite(res), res / np.sqrt(12.0),
                             u["reading"])
     u["pressure"] = np.where(np.isnan(g["pressure"]),
@@ -144,6 +153,7 @@ def _reading_checks(ch: _Checker, s: RunStack, c: Columns) -> None:
         "pressure is not a finite number", **s.place(r, "pressure", int(np.argmax(inf_p[r]))),
         hint="enter the absolute pressure, or leave the cell empty"))
     volume_units = c.reading_unit or [""] * s.R
+    length = s.length_readings[:, None]
     ch.point_rule(s.T <= 0, "bath_temperature", "temperature",
                   "bath temperature {} is at or below absolute zero",
                   "check the unit in the column header", c.T_unit)
@@ -152,10 +162,13 @@ def _reading_checks(ch: _Checker, s: RunStack, c: Columns) -> None:
     ch.point_rule(s.T > 700.0, "bath_temperature", "temperature",
                   "bath temperature {} is far above any liquid bath",
                   "check the value and the unit in the column header", c.T_unit)
-    ch.point_rule(s.reading > 1e-3, "reading", "volume",
+    ch.point_rule(~length & (s.reading > 1e-3), "reading", "reading",
                   "graduation reading {} is larger than any graduated tube",
                   "check the value and the unit in the column header", volume_units)
-    ch.point_rule(s.reading < 0, "reading", "volume", "graduation reading {} is negative",
+    ch.point_rule(length & (s.reading > 2.0), "reading", "reading",
+                  "bubble length {} is longer than any capillary",
+                  "check the value and the unit in the column header", volume_units)
+    ch.point_rule(s.reading < 0, "reading", "reading", "graduation reading {} is negative",
                   "readings count up from the zero mark; check the sign", volume_units)
     ch.point_rule(own & (s.pressure <= 0), "pressure", "pressure", "pressure {} is not positive",
                   "enter the absolute pressure", c.pressure_unit or [""] * s.R)
@@ -173,6 +186,15 @@ def _run_checks(ch: _Checker, s: RunStack) -> None:
     for key, (lo, hi, what) in LIMITS.items():
         name = QUANTITY[key]
         value = np.abs(sc[key]) if key == "depth" else sc[key]
+        if key in LENGTH_LIMITS:  # entries of the readings' kind: a length in a capillary
+            llo, lhi, lwhat = LENGTH_LIMITS[key]
+            length = s.length_readings
+            bad = np.where(length, (value < llo) | (value > lhi), (value < lo) | (value > hi))
+            fail(bad, lambda r, n=name, k=key, w=what, lw=lwhat: ImpossibleDataError(
+                f"{n} = {sc[k][r]:g} {'m' if s.length_readings[r] else SI_UNIT[k]} is "
+                f"{lw if s.length_readings[r] else w}", **s.place(r, n),
+                hint="check the value and its unit"))
+            continue
         fail((value < lo) | (value > hi), lambda r, n=name, k=key, w=what: ImpossibleDataError(
             f"{n} = {sc[k][r]:g} {SI_UNIT[k]} is {w}", **s.place(r, n),
             hint="check the value and its unit"))
@@ -201,11 +223,16 @@ def _run_checks(ch: _Checker, s: RunStack) -> None:
     fail(s.direction == 0, lambda r: BadValueError(
         "graduated_from: not 'closed end' or 'open end'", **s.place(r, "graduated_from"),
         hint="write 'closed end' when the zero mark is near the closed end"))
-    fail(np.isfinite(sc["bore"]) & np.isnan(sc["room_reading"]), lambda r: RunFileError(
+    fail(s.length_readings & np.isnan(sc["bore"]), lambda r: RunFileError(
+        "the readings are lengths: bubble lengths in a capillary need its bore",
+        **s.place(r, "tube_bore"),
+        hint="add tube_bore (the capillary's inner diameter), or give the readings in mL"))
+    fail(~s.length_readings & np.isfinite(sc["bore"]) & np.isnan(sc["room_reading"]),
+         lambda r: RunFileError(
         "tube_bore needs the room reading: the depths follow from the volume moved since then",
         **s.place(r, "tube_bore"), hint="add room_reading, or remove tube_bore"))
-    no_scale = np.isnan(sc["scale_offset"]) & (np.isnan(sc["room_reading"])
-                                               | np.isnan(sc["mass_before"]))
+    no_scale = ~s.length_readings & np.isnan(sc["scale_offset"]) & (
+        np.isnan(sc["room_reading"]) | np.isnan(sc["mass_before"]))
     fail(no_scale, lambda r: RunFileError(
         "the scale offset can be neither calibrated nor read: give room_reading with "
         "mass_before_air and mass_after_air, or scale_offset", **s.place(r, "scale_offset"),

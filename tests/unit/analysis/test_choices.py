@@ -52,3 +52,32 @@ def test_density_from_reference_and_the_cold_reading():
     assert r.setup.cold_index[0] == 0
     assert r.density[0] == pytest.approx(float(s.scalar["density"][0]))
     assert np.isfinite(r.density).all()
+
+
+def test_auto_air_method_is_the_first_the_record_supports():
+    """Order stated in vpkit.analysis.choices.AUTO_AIR_ORDER: weighing, injected, cold."""
+    import dataclasses
+
+    from tests.conftest import cold_record
+
+    full = make_run("ethanol")
+    drop = ("room_reading", "mass_before_air", "mass_after_air")
+    injected = dataclasses.replace(full, entries=tuple(
+        e for e in full.entries if e[0] not in drop) + (("scale_offset",
+                                                         vpkit.Entry(0.15, "mL")),))
+    capillary = cold_record("ethanol", 4.0)
+    s = stack_runs({"full": full, "injected": injected, "capillary": capillary})
+    setup = resolve(s, Choices()).setup
+    assert list(setup.air_from) == ["weighed", "injected", "cold"]
+    many = vpkit.analyze_many([full, injected, capillary])
+    assert list(many.summary["air amount from"]) == ["weighed", "injected", "cold"]
+    assert (many.summary["status"] == "").all()
+
+
+@pytest.mark.parametrize("method,supported", [("weighed", "cold"), ("injected", "cold")])
+def test_an_explicit_method_the_record_cannot_serve_names_the_one_it_can(method, supported):
+    from tests.conftest import cold_record
+
+    with pytest.raises(vpkit.InputError, match=f"air_from='{method}' needs") as err:
+        vpkit.analyze(cold_record("ethanol", 4.0, source="capillary.csv"), air_from=method)
+    assert f"air_from='{supported}'" in err.value.hint and err.value.file == "capillary.csv"

@@ -325,3 +325,53 @@ def test_blocks_give_the_same_summary():
     whole = analyze_table(table)
     blocks = analyze_table(table, chunk_runs=7)
     pd.testing.assert_frame_equal(whole, blocks, rtol=1e-12)
+
+
+def _mixed_section(rng):
+    """An invented section as it arrives: weighed runs, runs with only an injected volume,
+    capillary and graduated-tube runs whose air amount comes from a cold reading, of named
+    and unnamed liquids."""
+    import dataclasses
+
+    from tests.conftest import cold_record
+
+    runs = dict(random_runs(4, seed=21))
+    drop = ("room_reading", "mass_before_air", "mass_after_air")
+    for rid in list(runs)[:2]:
+        run = runs[rid]
+        runs[rid + "_injected"] = dataclasses.replace(run, entries=tuple(
+            e for e in run.entries if e[0] not in drop) + (("scale_offset",
+                                                             vpkit.Entry(0.15, "mL")),))
+    for k, (liquid, t_cold, name, cap) in enumerate([
+            ("ethanol", 4.0, None, True), ("ethanol", 12.0, None, True),
+            ("2-propanol", 8.0, "sample B", True), ("acetone", 15.0, "sample C", True),
+            ("water", 4.5, None, False)]):
+        t = tuple(np.linspace(25.0, 45.0 if liquid == "acetone" else 60.0, 4 + k % 3))
+        runs[f"cold{k}"] = cold_record(liquid, t_cold, t, capillary=cap, name=name,
+                                       noise=0.2 if cap else 0.02, rng=rng)
+    return runs
+
+
+def test_a_mixed_section_is_analysed_with_no_options(tmp_path):
+    """No run is refused for its air method: each uses what its record supports."""
+    from vpkit.record.runfile import write_run
+
+    runs = _mixed_section(np.random.default_rng(5))
+    for rid, run in runs.items():
+        write_run(run, tmp_path / f"{rid}.csv")
+    many = analyze_many(tmp_path)
+    s = many.summary.set_index("run_id")
+    assert (s["status"] == "").all(), s.loc[s["status"] != "", "status"].to_dict()
+    method = s["air amount from"]
+    assert set(method[[r for r in s.index if r.startswith("cold")]]) == {"cold"}
+    assert set(method[[r for r in s.index if r.endswith("_injected")]]) == {"injected"}
+    assert (method[[r for r in s.index if r.startswith("run") and "_" not in r]]
+            == "weighed").all()
+
+
+def test_many_equals_single_for_a_mixed_section():
+    runs = _mixed_section(np.random.default_rng(6))
+    summary = analyze_runs(runs)
+    assert assert_same(summary, runs) == len(runs)
+    summary_fit = analyze_runs(runs, vapor_at_air_reference="fit")
+    assert assert_same(summary_fit, runs, vapor_at_air_reference="fit") == len(runs)

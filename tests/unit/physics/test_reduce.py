@@ -115,3 +115,40 @@ def test_moisture_of_injected_air_leaves_a_liquid_that_takes_up_water():
                                             rel=1e-9)
     kept = rd.reduce_chain(_x(RH=0.6), rd.ReductionSetup(air_from="injected"), 0.0)
     assert kept["n_air"][0] == pytest.approx(100000.0 * 2.1e-6 / (R * 295.0), rel=1e-13)
+
+
+def test_capillary_lengths_become_volumes_and_the_bore_cancels_for_a_cold_reference():
+    """Bubble lengths L in a capillary of bore d are volumes L π d²/4 (offset 0: the length
+    runs from the closed end). With the air amount fixed at a cold reading the cross-section
+    cancels: p_air(T) = (P - p_c) (L_c / L) (T / T_c), by hand below."""
+    T = np.array([277.15, 300.0, 320.0])
+    L = np.array([0.022, 0.0245, 0.0290])
+    P, p_c = 99_600.0, 800.0
+    x = {"T": T, "reading": L, "P_bar": np.float64(P), "T_room": np.float64(295.0),
+         "bore": np.float64(1.2e-3)}
+    setup = rd.ReductionSetup(air_from="cold", cold_index=0, offset_from_weighing=False,
+                              use_head=False, length_readings=True)
+    out = rd.reduce_chain(x, setup, np.float64(p_c))
+    area = np.pi * 1.2e-3**2 / 4
+    assert out["V"] == pytest.approx(L * area, rel=1e-14)
+    expected = P - (P - p_c) * (L[0] / L) * (T / T[0])
+    assert out["p_vap"] == pytest.approx(expected, rel=1e-12)
+    wider = rd.reduce_chain({**x, "bore": np.float64(2.5e-3)}, setup, np.float64(p_c))
+    assert wider["p_vap"] == pytest.approx(out["p_vap"], rel=1e-12)
+
+
+def test_per_run_air_methods_give_each_run_its_own_method():
+    """A batch with one method per run equals each method applied alone."""
+    T = np.array([[277.0, 300.0, 320.0]] * 3)
+    x = {"T": T, "reading": np.array([[2.0e-6, 2.3e-6, 2.8e-6]] * 3),
+         "P_bar": np.full(3, 1.0e5), "T_room": np.full(3, 295.0),
+         "room_reading": np.full(3, 2.1e-6), "scale_offset": np.full(3, 0.1e-6),
+         "V_injected": np.full(3, 2.0e-6), "density": np.full(3, 789.0)}
+    kw = dict(cold_index=0, offset_from_weighing=False, use_head=False)
+    mixed = rd.reduce_chain(x, rd.ReductionSetup(
+        air_from=np.array(["weighed", "injected", "cold"], dtype=object), **kw), np.full(3, 900.0))
+    for r, method in enumerate(["weighed", "injected", "cold"]):
+        alone = rd.reduce_chain(x, rd.ReductionSetup(air_from=method, **kw), np.full(3, 900.0))
+        assert mixed["p_vap"][r] == pytest.approx(alone["p_vap"][r], rel=1e-15)
+    with pytest.raises(ValueError, match="air_from must be one of"):
+        rd.reduce_chain(x, rd.ReductionSetup(air_from="guessed", **kw), np.full(3, 900.0))

@@ -7,7 +7,7 @@ import pytest
 
 import vpkit
 from tests.conftest import make_run
-from vpkit.record.assemble import stack_runs
+from vpkit.record.assemble import run_in_si, stack_runs
 
 
 def _with(run, **entries):
@@ -73,3 +73,33 @@ def test_new_quantities_are_checked_with_their_place():
     _, failures = stack_runs({"bored": bored}, strict=False)
     assert failures and failures[0][1].column == "tube_bore"
     assert "room_reading" in failures[0][1].hint
+
+
+def test_bubble_lengths_need_the_capillary_bore():
+    from tests.conftest import cold_record
+
+    run = cold_record("ethanol", 4.0, source="cap.csv")
+    assert run_in_si(run).length_readings
+    no_bore = vpkit.parse_run(vpkit.format_run(run).replace("tube_bore,1.2,mm,0.02\n", ""),
+                              source="cap.csv")
+    with pytest.raises(vpkit.RunFileError, match="bubble lengths in a capillary need its bore"):
+        run_in_si(no_bore)
+
+
+def test_a_room_reading_in_another_kind_than_the_readings_is_refused():
+    from tests.conftest import cold_record
+
+    text = vpkit.format_run(cold_record("ethanol", 4.0)).replace(
+        "tube_bore,1.2,mm,0.02\n", "tube_bore,1.2,mm,0.02\nroom_reading,0.5,mL,\n")
+    with pytest.raises(vpkit.UnitError, match="room_reading is a volume") as err:
+        run_in_si(vpkit.parse_run(text, source="cap.csv"))
+    assert err.value.row is not None and "mm" in err.value.hint
+
+
+def test_a_length_reading_beyond_any_capillary_is_named():
+    from tests.conftest import cold_record
+
+    text = vpkit.format_run(cold_record("ethanol", 4.0)).replace(
+        "reading [mm]", "reading [m]")
+    with pytest.raises(vpkit.ImpossibleDataError, match="longer than any capillary"):
+        run_in_si(vpkit.parse_run(text))

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import math
 
-from ..units import from_si
+from .units import from_si
 
 #: How units are shown.
 LABELS = {"degC": "°C", "degF": "°F", "K": "K"}
@@ -71,6 +71,15 @@ def quantity(value_si: float, u_si: float | None, unit: str, kind: str,
     u = None if u_si is None else float(from_si(u_si, unit, kind, delta=True))
     shown = ("K" if unit in ("degC", "K") else unit) if delta else unit
     return value_u(v, u, shown) if u is not None else number(v, shown)
+
+
+def count(n: int, noun: str) -> str:
+    """'1 run', '3 runs', '0 points': a count with its noun in the right number."""
+    return f"{n} {noun if n == 1 else PLURALS.get(noun, noun + 's')}"
+
+
+#: Nouns whose plural is not the noun + 's'.
+PLURALS = {"is": "are", "was": "were", "analysis": "analyses"}
 
 
 def _round_sig(x: float, digits: int) -> float:

@@ -3,7 +3,7 @@ significant digits and its value rounded to match (JCGM 100:2008, GUM, 7.2.6).""
 
 import pytest
 
-from vpkit.output import display as D
+from vpkit import display as D
 
 
 @pytest.mark.parametrize("v,u,expected", [
