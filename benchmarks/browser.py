@@ -152,10 +152,10 @@ def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
             text0 = _enthalpy(page)
             t0 = time.perf_counter()
             box.click()
-            page.wait_for_function(
+            page.wait_for_function(  # the readout (value or u) changes
                 "([re, old]) => { const m = document.body.innerHTML.match(new RegExp(re));"
-                " return m && m[1] !== old; }", arg=[ENTHALPY.pattern, text0[0]],
-                polling="raf")
+                " return m && m[1] + ' ± ' + m[2] !== old; }",
+                arg=[ENTHALPY.pattern, " ± ".join(text0)], polling="raf")
             t1 = time.perf_counter()
             page.wait_for_function(f"(old) => ({_SNAPSHOT})() !== old", arg=snap,
                                    polling="raf")

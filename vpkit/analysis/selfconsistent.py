@@ -35,8 +35,14 @@ from .choices import Resolved, setup_rows
 #: choice: the finite-difference weights leave a noise floor near 1e-9).
 SELF_CONSISTENT_TOL = 1e-8
 SELF_CONSISTENT_ROUNDS = 30
+#: A solve that ends further from self-consistency than this has found no solution
+#: (our choice: 0.1 % of p_ref moves ΔH_vap by far less than its u; beyond, it is a guess).
+SELF_CONSISTENT_GIVE_UP = 1e-3
 #: Passes that make the weights consistent with the dp/du term at one p.
 IMPLICIT_PASSES = 3
+#: Passes of every fit with the covariance of ln p at the fitted curve (Peelle's puzzle:
+#: see :func:`vpkit.fitting.fit.fit_stack`); the engine's final fit uses the same.
+FITTED_PASSES = 2
 #: The model of the fallback extrapolation to the air reference.
 LINE = "clausius_clapeyron"
 
@@ -70,7 +76,7 @@ def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, f
     if fit:
         fit = fit_stack(choices.model, np.where(mask, stack.T[idx], np.nan), lnp, fit_inc,
                         weighting=choices.weighting, cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T,
-                        influence=False)
+                        influence=False, at_fitted=FITTED_PASSES)
     else:
         fit = None
     return {"nominal": {k: np.array(v) for k, v in nominal.items()}, "J": np.array(J),
@@ -260,6 +266,7 @@ def self_consistent(stack, res, choices, idx, start, inc):
         best_p[keep[closer]], best_g[keep[closer]] = p[keep][closer], (g - p[keep])[closer]
         cur = merge_rows(cur, keep, nxt)
         active[keep] = ~(e <= SELF_CONSISTENT_TOL)
+    failed |= ~(err <= SELF_CONSISTENT_GIVE_UP)  # NaN: never got that far
     return cur, p, rounds, err, failed, {"p": best_p, "G": best_g}
 
 

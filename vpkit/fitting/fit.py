@@ -36,10 +36,16 @@ References
    Physical Sciences", 3rd ed., McGraw-Hill (2003), section 6.4: the fitted
    straight line's intercept at the weighted mean of x is uncorrelated with
    its slope (from memory of the section number).
+.. [8] S. Chiba, D. L. Smith, "A suggested procedure for resolving an anomaly in
+   least-squares data analysis known as 'Peelle's pertinent puzzle' and the
+   general implications for nuclear data evaluation", Argonne National
+   Laboratory report ANL/NDM-121 (1991): a covariance built from the measured
+   values with a shared multiplicative error biases GLS; build it from the fit.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 
 import numpy as np
@@ -79,7 +85,8 @@ def chi2_limits(dof: np.ndarray, level: float = 0.95) -> np.ndarray:
 
 def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", cov_y=None,
               cov_yT=None, cov_T=None, space: str = "ln_p", start=None,
-              search: bool = True, influence: bool = True, chol=None) -> StackFit:
+              search: bool = True, influence: bool = True, chol=None,
+              at_fitted: int = 0) -> StackFit:
     """Fit ln p = f(T) to R data sets at once.
 
     Parameters
@@ -108,6 +115,12 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
         A fixed whitening (lower Cholesky factor of the residual covariance):
         no effective-variance rounds (Monte Carlo and self-consistent solves
         reuse the nominal fit's weights).
+    at_fitted : int
+        Passes with the covariance of ln p evaluated at the fitted curve instead of
+        the data (``space="ln_p"``): cov_y and cov_yT are scaled by s_i = p_i/p_fit(T_i),
+        s_i s_j and s_i, and the fit repeated. A covariance built from the measured
+        points (d ln p/du carries 1/p of each noisy point) with inputs every point
+        shares biases GLS [8]; ``StackFit.cov_scale`` holds the s used.
 
     Returns
     -------
@@ -116,8 +129,27 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
         ``status``; this function never raises for them.
     """
     with np.errstate(all="ignore"):  # failures are reported in ``status``, not warned
-        return _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start,
-                          search, influence, chol)
+        if not (at_fitted and cov_y is not None and chol is None and space == "ln_p"):
+            return _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space,
+                              start, search, influence, chol)
+        cov_y, T, y = np.asarray(cov_y, float), np.asarray(T, float), np.asarray(y, float)
+        s = np.ones(y.shape)
+        for k in range(at_fitted + 1):
+            last = k == at_fitted
+            fit = _fit_stack(model, T, y, mask, weighting, s[..., :, None] * cov_y
+                             * s[..., None, :], None if cov_yT is None else
+                             s[..., :, None] * np.asarray(cov_yT, float), cov_T, space, start,
+                             search, influence and last, chol)
+            if not last:
+                s = _fitted_scale(fit, T, y)
+        return dataclasses.replace(fit, cov_scale=readonly(s))
+
+
+def _fitted_scale(fit: StackFit, T, y) -> np.ndarray:
+    """p / p_fit per point (1 where either is missing or the fit failed)."""
+    th = np.where(fit.ok[:, None], fit.params, np.nan)
+    s = np.exp(y - fit.model.f(np.where(np.isfinite(T), T, 300.0), th))
+    return np.where(np.isfinite(s) & (s > 0), s, 1.0)
 
 
 NOT_PD = ("the covariance of the points is not positive definite (a point with zero or "

@@ -54,6 +54,9 @@ class StackFit:
         Per data set, "" or why it could not be fitted.
     ill_conditioned : ndarray of bool (R,)
         Three-parameter model whose curvature the data do not fix.
+    cov_scale : ndarray (R, N) or None
+        Where the covariance of ln p was evaluated at the fitted curve
+        (``fit_stack(at_fitted=...)``): the factor p/p_fit it was scaled by per point.
     cov_method : {"gls", "sandwich", "scatter"}
         How ``cov`` was found: GLS, (J^T C^-1 J)^-1; sandwich, M C M^T for
         weighted or ordinary estimates when the points' covariance is known;
@@ -83,6 +86,7 @@ class StackFit:
     status: tuple[str, ...] = ()
     ill_conditioned: np.ndarray = field(default=None, repr=False)
     cov_method: str = "gls"
+    cov_scale: np.ndarray | None = field(default=None, repr=False)
 
     def take(self, idx) -> StackFit:
         """The fits of the data sets at ``idx`` (an index array)."""
