@@ -46,8 +46,8 @@ import pandas as pd
 
 from ..arrays import psum
 from ..constants import P_STANDARD
-from ..fitting.fit import chi2_limits
 from ..fitting.lsq import back_solve, forward_solve
+from .relinearize import parameter_covariance
 
 #: Input groups of the budget: name -> input names (``T``, ``reading``, ``P`` are the
 #: per-point inputs, all points together).
@@ -157,43 +157,15 @@ def largest_share(res, quantity: str = "ΔH_vap") -> tuple[np.ndarray, np.ndarra
 
 def refit_uncertainty(res, r: int, factor: np.ndarray) -> dict[str, float]:
     """u(q) of run ``r`` if every input's uncertainty were multiplied by ``factor`` (m,),
-    refitted at the same linearisation (see the module docstring); q as in
-    :data:`QUANTITIES`. ``factor`` of ones gives the reported uncertainties."""
+    refitted at the same linearisation (:func:`vpkit.analysis.relinearize.
+    parameter_covariance`); q as in :data:`QUANTITIES`. ``factor`` of ones gives the
+    reported uncertainties."""
+    cov = parameter_covariance(res, [r], factor=np.asarray(factor, float)[None])[0]
     f = res.fit
-    m = f.model
-    inc = f.include[r] & np.isfinite(f.T[r])
-    out = {q: np.nan for q in QUANTITIES}
-    if not (f.ok[r] and inc.sum() > m.n_params - (f.cov_method == "scatter")):
-        return out
-    th = f.params[r]
-    T = f.T[r][inc]
-    A = m.jac(T, th)
-    Jd = _at_fit(res)[r][inc]
-    cols = np.flatnonzero(inc)
-    Jd[np.arange(len(cols)), cols] -= m.df_dT(T, th)
-    D = Jd * (res.layout.sigma[r] * factor)
-    C = D @ D.T
-    resid = f.residuals[r][inc]
-    L = np.linalg.cholesky(C)
-    Z, zr = np.linalg.solve(L, A), np.linalg.solve(L, resid)
-    if f.cov_method == "gls":
-        cov = np.linalg.inv(Z.T @ Z)
-    elif f.cov_method == "sandwich":
-        w = 1.0 / np.diag(C) if f.weighting == "weighted" else np.ones(len(T))
-        Mx = np.linalg.solve((A.T * w) @ A, A.T * w)
-        cov = Mx @ C @ Mx.T
-    else:  # the scatter of an unweighted fit without stated uncertainties
-        cov = np.array(f.cov[r], float)
-    if f.cov_method != "scatter":
-        dof = int(f.dof[r])
-        delta = np.linalg.lstsq(Z, zr, rcond=None)[0]
-        chi2 = float(np.sum((zr - Z @ delta) ** 2))
-        if dof > 0 and chi2 > chi2_limits(np.array([dof]))[0]:
-            cov = cov * chi2 / dof
     _, _, gH = f.enthalpy()
     _, _, gT, _ = f.boiling_point(P_STANDARD)
-    out["ΔH_vap"] = float(np.sqrt(gH[r] @ cov @ gH[r]))
-    out["T_b at 101.325 kPa"] = float(np.sqrt(gT[r] @ cov @ gT[r]))
+    out = {"ΔH_vap": float(np.sqrt(gH[r] @ cov @ gH[r])),
+           "T_b at 101.325 kPa": float(np.sqrt(gT[r] @ cov @ gT[r]))}
     dz = res.delta_z[r]
     virial = res.u_true_enthalpy[r] ** 2 - (res.u_enthalpy[r] * dz) ** 2
     out["true ΔvapH"] = float(np.sqrt((out["ΔH_vap"] * dz) ** 2 + max(virial, 0.0)))

@@ -74,6 +74,34 @@ def true_enthalpy(liquids, T, p, dH_app, u_app) -> dict:
                                     T)}
 
 
+def enthalpy_at(fit, curves, T) -> dict:
+    """The apparent ΔH_vap of each fit carried to T [K] (R,): by the model itself where it
+    has a curvature (constant ΔCp, Antoine), else from T_m by the published curve's change
+    of apparent ΔH or, without a curve, the assumed ΔCp (see the module docstring).
+
+    Returns ``value`` [J/mol], ``grad`` (dΔH/dθ, R × p), ``u_adj`` (the carrying's own u,
+    independent of θ), ``dH_dT`` [J/(mol K)] and ``carried_by`` ("model",
+    "published curve" or "assumed ΔCp")."""
+    m, th = fit.model, fit.params
+    T = np.broadcast_to(np.asarray(T, float), fit.T_m.shape)
+    R_ = len(T)
+    with np.errstate(all="ignore"):
+        if m.curvature_index is not None:
+            return {"value": m.enthalpy(T, th), "grad": m.enthalpy_grad(T, th),
+                    "u_adj": np.zeros(R_), "dH_dT": m.enthalpy_dT(T, th),
+                    "carried_by": np.full(R_, "model", dtype=object)}
+        T_m = fit.T_m
+        has = curves.has
+        ref_t, ref_m = curves.apparent_enthalpy(T), curves.apparent_enthalpy(T_m)
+        h = 0.01
+        ref_slope = (curves.apparent_enthalpy(T + h) - curves.apparent_enthalpy(T - h)) / (2 * h)
+        adj = np.where(has, ref_t - ref_m, DCP_ASSUMED * (T - T_m))
+        u_adj = np.where(has, U_FROM_CURVE * np.abs(adj), U_DCP_ASSUMED * np.abs(T - T_m))
+        return {"value": m.enthalpy(T_m, th) + adj, "grad": m.enthalpy_grad(T_m, th),
+                "u_adj": u_adj, "dH_dT": np.where(has, ref_slope, DCP_ASSUMED),
+                "carried_by": np.where(has, "published curve", "assumed ΔCp").astype(object)}
+
+
 def entropy_at_boiling(fit, liquids, curves, P=P_STANDARD, bias=None) -> dict:
     """ΔS_vap at the boiling point for P (R,) with its u, and how ΔH reached T_b.
 
@@ -94,31 +122,14 @@ def entropy_at_boiling(fit, liquids, curves, P=P_STANDARD, bias=None) -> dict:
     given), ``enthalpy`` (true ΔvapH at T_b [J/mol]) and ``carried_by`` (R,) of
     "model", "published curve" or "assumed ΔCp".
     """
-    m, th, cov = fit.model, fit.params, fit.cov
+    cov = fit.cov
     Tb, _, gT, _ = fit.boiling_point(P)
-    R_ = len(Tb)
     if bias is not None:
         Tb = np.where(np.isfinite(bias), Tb - np.asarray(bias, float), Tb)
     with np.errstate(all="ignore"):
-        if m.curvature_index is not None:
-            H = m.enthalpy(Tb, th)
-            dHdT = m.enthalpy_dT(Tb, th)
-            gH0 = m.enthalpy_grad(Tb, th)
-            adj, u_adj = np.zeros(R_), np.zeros(R_)
-            how = np.full(R_, "model", dtype=object)
-        else:
-            T_m = fit.T_m
-            has = curves.has
-            ref_b, ref_m = curves.apparent_enthalpy(Tb), curves.apparent_enthalpy(T_m)
-            h = 0.01
-            ref_slope = (curves.apparent_enthalpy(Tb + h) - curves.apparent_enthalpy(Tb - h)) / (
-                2 * h)
-            adj = np.where(has, ref_b - ref_m, DCP_ASSUMED * (Tb - T_m))
-            u_adj = np.where(has, U_FROM_CURVE * np.abs(adj), U_DCP_ASSUMED * np.abs(Tb - T_m))
-            dHdT = np.where(has, ref_slope, DCP_ASSUMED)
-            H = m.enthalpy(T_m, th) + adj
-            gH0 = m.enthalpy_grad(T_m, th)
-            how = np.where(has, "published curve", "assumed ΔCp").astype(object)
+        carried = enthalpy_at(fit, curves, Tb)
+        H, gH0, u_adj = carried["value"], carried["grad"], carried["u_adj"]
+        dHdT, how = carried["dH_dT"], carried["carried_by"]
         dz, u_dz = delta_z_runs(liquids, Tb, np.broadcast_to(np.asarray(P, float), Tb.shape))
         dz, u_dz = np.where(np.isfinite(dz), dz, DZ_ASSUMED), np.where(
             np.isfinite(dz), u_dz, U_DZ_ASSUMED)

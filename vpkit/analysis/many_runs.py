@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from .. import display as D
 from ..record.assemble import stack_runs
 from ..record.longtable import LoadResult, read_runs, stack_table, table_to_runs
 from ..record.run import Run
@@ -31,6 +32,7 @@ from .choices import Choices
 from .engine import StackResult, analyze_stack
 from .one_run import Analysis
 from .result_tables import RESULT_COLUMNS, results_table
+from .section import CONSENSUS_COLUMNS, section_tables
 
 
 @dataclass(frozen=True)
@@ -53,6 +55,11 @@ class ManyResult:
         Session files applied (folders of run files).
     paths : mapping run_id -> Path
         The run file of each run (folders of run files).
+    consensus : DataFrame
+        One row per liquid with at least two analysed runs: the section's consensus of
+        ΔH_vap (at the runs' mean T_m) and of T_b at 101.325 kPa, every estimator
+        beside it, and the joint fit (:mod:`vpkit.analysis.section`). The summary then
+        has each run's z, ζ and signal; both need the results kept (``keep=True``).
     """
 
     summary: pd.DataFrame
@@ -62,6 +69,8 @@ class ManyResult:
     runs: Mapping[str, Run] = field(default_factory=dict, repr=False)
     sessions: Mapping[str, str] = field(default_factory=dict, repr=False)
     paths: Mapping[str, object] = field(default_factory=dict, repr=False)
+    consensus: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
+        columns=CONSENSUS_COLUMNS), repr=False)
 
     def _where(self, run_id: str) -> tuple[StackResult, int]:
         for _, res in self.blocks:
@@ -163,8 +172,31 @@ def analyze_many(source, *, chunk_runs: int = 2048, keep: bool = True, sessions:
         stack, failed, runs, applied = load.stack, load.failed, dict(load.runs), load.sessions
         paths = dict(load.paths)
     summary, blocks = analyze_stack_in_blocks(stack, choices, chunk_runs=chunk_runs, keep=keep)
-    return ManyResult(_with_failures(summary, failed, order), choices, blocks, failed, runs,
-                      applied, paths)
+    summary = _with_failures(summary, failed, order)
+    cons = pd.DataFrame(columns=CONSENSUS_COLUMNS)
+    if keep and len(summary):
+        cons, score = section_tables(summary, blocks)
+        summary = with_signals(summary, score)
+    return ManyResult(summary, choices, blocks, failed, runs, applied, paths, cons)
+
+
+def with_signals(summary: pd.DataFrame, score: pd.DataFrame) -> pd.DataFrame:
+    """The summary with the section's score columns, and each signal added to the run's
+    flags and flag reasons with the score that triggered it (ISO 13528)."""
+    out = pd.concat([summary, score], axis=1)
+    flags, reasons = out["flags"].fillna("").astype(str), out["flag reasons"].fillna("")
+    for i in np.flatnonzero(out["signal"].to_numpy() != ""):
+        kind = out["signal"].iat[i]
+        zH, zT = out["ζ vs consensus"].iat[i], out["ζ vs consensus (T_b)"].iat[i]
+        worst = ("ΔH_vap", zH) if not abs(zT) > abs(zH) else ("T_b at 101.325 kPa", zT)
+        text = (f"{worst[0]}: ζ = {D.signed(worst[1], '', 1)} against the section consensus ("
+                + ("|ζ| ≥ 3, an action signal: check this run)" if kind == "action"
+                   else "2 < |ζ| < 3, a warning signal)"))
+        flag = f"section {kind} signal"
+        flags.iat[i] = f"{flags.iat[i]}, {flag}" if flags.iat[i] else flag
+        reasons.iat[i] = f"{reasons.iat[i]}; {text}" if reasons.iat[i] else text
+    out["flags"], out["flag reasons"] = flags, reasons
+    return out
 
 
 def analyze_table(table: pd.DataFrame, *, chunk_runs: int = 2048, **options) -> pd.DataFrame:
