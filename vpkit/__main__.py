@@ -235,7 +235,8 @@ def _report(args) -> int:
         print(f"  {r['run_id']}: {r['flag reasons']}")
     for _, r in summary[~analysed].iterrows():
         print(f"  not analysed: {r['run_id']}: {r['status']}")
-    print(f"wrote {res['html']}, {res['markdown']}, {res['summary_csv']}")
+    print(f"wrote {res['html']}, {res['markdown']}, {res['summary_csv']}, "
+          f"{res['consensus_csv']}")
     print(SAFETY_NOTE)
     return 0
 

@@ -44,10 +44,13 @@ def value_u(value: float, u: float | None, unit: str = "") -> str:
 
 
 def number(value: float, unit: str = "", digits: int = 4) -> str:
-    """A number alone, to ``digits`` significant digits ('—' when missing)."""
+    """A number alone, to ``digits`` significant digits, trailing zeros kept ('81.00',
+    '0.9700'; '—' when missing); beyond 10^digits, the whole number."""
     if value is None or not math.isfinite(value):
         return "—"
-    text = f"{_clean(_round_sig(float(value), digits)):.{digits}g}"
+    v = _clean(_round_sig(float(value), digits))
+    decimals = 0 if v == 0 else digits - 1 - int(math.floor(math.log10(abs(v))))
+    text = f"{v:.{max(decimals, 0) if v != 0 else digits - 1}f}"
     return f"{text} {LABELS.get(unit, unit)}".rstrip()
 
 

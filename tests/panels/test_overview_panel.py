@@ -49,3 +49,12 @@ def test_drill_down_exclusion_flows_back_and_persists(folder):
     assert row["ΔH_vap [kJ/mol]"] == pytest.approx(expected["ΔH_vap [kJ/mol]"], rel=1e-12)
     again = vpkit.overview(folder)  # a new session: the exclusion is still there
     assert again.summary.set_index("run_id").loc["bench1", "points used"] == 7
+
+
+def test_the_section_consensus_is_shown_per_liquid(folder):
+    ov = vpkit.overview(folder)
+    assert list(ov.w_liquid.options) == ["ethanol"]  # toluene has one run: no section
+    row = ov.result.consensus.iloc[0]
+    shown = vpkit.display.value_u(row["consensus ΔH_vap [kJ/mol]"],
+                                  row["u(consensus ΔH_vap) [kJ/mol]"], "kJ/mol")
+    assert shown in ov.w_consensus.value and ov.w_section.value[:4] == b"\x89PNG"

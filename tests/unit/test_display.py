@@ -20,7 +20,16 @@ def test_value_with_uncertainty(v, u, expected):
 def test_no_negative_zero_and_missing_values():
     assert D.signed(-0.0004, "%") == "+0.0 %"
     assert D.number(float("nan")) == "—" and D.value_u(float("nan"), 1.0) == "—"
-    assert D.number(29.600000000000023) == "29.6"
+    assert D.number(29.600000000000023) == "29.60"  # no float noise; four digits kept
+
+
+def test_numbers_without_u_keep_four_significant_digits():
+    """81, 99.25, -0.9329 and 0.9701 side by side read as unequal precision; the rule keeps
+    the significant zeros."""
+    assert [D.number(v) for v in (81, 99.25, -0.93294, 0.97012)] == [
+        "81.00", "99.25", "-0.9329", "0.9701"]
+    assert D.number(123456.7) == "123500" and D.count(1, "run") == "1 run"
+    assert D.count(3, "run") == "3 runs" and D.count(0, "point") == "0 points"
 
 
 def test_units_converted_at_the_edge():

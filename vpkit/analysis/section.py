@@ -6,7 +6,9 @@ For every liquid with at least two analysed runs in a many-run result:
   of the runs' T_m), by :func:`vpkit.analysis.derived.enthalpy_at` (the model's own
   curvature, else the published curve's change of apparent ΔH, else an assumed
   ΔCp, with that step's uncertainty added), so like is compared with like;
-* the consensus of ΔH_vap at that T_m and of T_b at 101.325 kPa, by the rule of
+* the consensus of ΔH_vap at that T_m and of T_b at 101.325 kPa (each run's T_b
+  corrected for its model's extrapolation bias where that is estimated, see
+  :func:`vpkit.analysis.derived.boiling_point_bias`), by the rule of
   :mod:`vpkit.analysis.consensus` (every estimator is reported beside it), and
   each run's z, ζ and ISO 13528 signal;
 * a joint fit: one set of model parameters shared by all runs of the liquid, each
@@ -31,6 +33,7 @@ from ..arrays import quad
 from ..constants import P_STANDARD, T_ZERO_C
 from ..fitting import lsq
 from ..fitting.fit import chi2_limits
+from ..physics.curves import reference_curve
 from ..physics.liquids import canonical_name, has_reference
 from .consensus import consensus, scores
 from .derived import enthalpy_at
@@ -40,8 +43,9 @@ from .relinearize import parameter_covariance, residual_covariance, with_enthalp
 CONSENSUS_PASSES = 2
 
 #: Columns the section adds to the many-run summary.
-SCORE_COLUMNS = ("ΔH_vap at section T_m [kJ/mol]", "u(ΔH_vap at section T_m) [kJ/mol]", "z",
-                 "ζ vs consensus", "z (T_b)", "ζ vs consensus (T_b)", "signal")
+SCORE_COLUMNS = ("section", "ΔH_vap at section T_m [kJ/mol]",
+                 "u(ΔH_vap at section T_m) [kJ/mol]", "z", "ζ vs consensus", "z (T_b)",
+                 "ζ vs consensus (T_b)", "signal")
 
 
 def liquid_key(liquid: str) -> str:
@@ -207,9 +211,10 @@ def section_tables(summary: pd.DataFrame, blocks) -> tuple[pd.DataFrame, pd.Data
     targets = {k: float(T_m[ok & (keys == k)].mean()) for k in groups}
     carried = _carried(blocks, targets)
     score = pd.DataFrame(index=summary.index, columns=list(SCORE_COLUMNS), dtype=object)
-    for col in SCORE_COLUMNS[:-1]:
+    for col in SCORE_COLUMNS[1:-1]:
         score[col] = np.nan
     score["signal"] = ""
+    score["section"] = ""
     rows = []
     for k in sorted(groups):
         sel = summary.index[ok & (keys == k)]
@@ -225,12 +230,19 @@ def section_tables(summary: pd.DataFrame, blocks) -> tuple[pd.DataFrame, pd.Data
             u, utb = _u_at_consensus(info, cH.value)
             cH = consensus(x, u)
         sH = scores(x, u, cH)
+        # T_b corrected for the model's own extrapolation bias where it is estimated
         tb = summary.loc[have, "T_b at 101.325 kPa [degC]"].astype(float).to_numpy() + T_ZERO_C
+        bias = summary.loc[have, "T_b bias at 101.325 kPa [K]"].astype(float).to_numpy()
+        ubias = summary.loc[have, "u(T_b bias) [K]"].astype(float).to_numpy()
+        known = np.isfinite(bias) & np.isfinite(ubias)
+        tb = np.where(known, tb - bias, tb)
+        utb = np.where(known, np.hypot(utb, ubias), utb)
         fin = np.isfinite(tb) & np.isfinite(utb) & (utb > 0)
         cT = consensus(tb[fin], utb[fin]) if fin.sum() >= 2 else None
         sT = scores(tb[fin], utb[fin], cT) if cT is not None else None
-        score.loc[have, SCORE_COLUMNS[0]] = x / 1e3
-        score.loc[have, SCORE_COLUMNS[1]] = u / 1e3
+        score.loc[have, "section"] = k
+        score.loc[have, SCORE_COLUMNS[1]] = x / 1e3
+        score.loc[have, SCORE_COLUMNS[2]] = u / 1e3
         score.loc[have, "z"] = sH["z"]
         score.loc[have, "ζ vs consensus"] = sH["zeta"]
         worst = np.abs(sH["zeta"])
@@ -260,7 +272,8 @@ CONSENSUS_COLUMNS = [
     "joint-fit reduced chi2", "joint-fit T_b at 101.325 kPa [degC]",
     "u(joint-fit T_b at 101.325 kPa) [K]",
     "consensus T_b at 101.325 kPa [degC]", "u(consensus T_b at 101.325 kPa) [K]",
-    "method (T_b)", "Birge ratio (T_b)", "between-run SD (T_b) [K]", "runs used (T_b)"]
+    "method (T_b)", "Birge ratio (T_b)", "between-run SD (T_b) [K]", "runs used (T_b)",
+    "reference", "reference ΔH_vap at T_m [kJ/mol]", "reference T_b at 101.325 kPa [degC]"]
 
 
 def _consensus_row(summary, have, key, T_star, cH, cT, joint) -> dict:
@@ -293,6 +306,12 @@ def _consensus_row(summary, have, key, T_star, cH, cT, joint) -> dict:
                     else nan,
                     "joint-fit T_b at 101.325 kPa [degC]": Tb - T_ZERO_C,
                     "u(joint-fit T_b at 101.325 kPa) [K]": float(np.sqrt(gT @ cov @ gT))})
+    if has_reference(key):
+        curve = reference_curve(key)
+        row.update({"reference": curve.label,
+                    "reference ΔH_vap at T_m [kJ/mol]": float(
+                        curve.apparent_enthalpy(T_star)) / 1e3,
+                    "reference T_b at 101.325 kPa [degC]": curve.boiling_point() - T_ZERO_C})
     if cT is not None:
         row.update({"consensus T_b at 101.325 kPa [degC]": cT.value - T_ZERO_C,
                     "u(consensus T_b at 101.325 kPa) [K]": cT.u, "method (T_b)": cT.method,

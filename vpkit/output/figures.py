@@ -189,3 +189,45 @@ def overview_figure(summary, width_mm: float = 175.0) -> Figure:
                   fontsize=st["font"])
     ax.tick_params(labelsize=st["small"])
     return fig
+
+
+def section_figure(scores, row, width_mm: float = 120.0) -> Figure:
+    """One liquid's section: every run's ΔH_vap at the section's T_m with its 95 %
+    interval, ranked; the consensus and its 95 % band; the published curve's value; runs
+    with an action signal as filled triangles, a warning signal as open triangles.
+
+    ``scores`` holds the runs of the liquid (columns ``run_id``,
+    ``ΔH_vap at section T_m [kJ/mol]``, its u, ``signal``); ``row`` is the liquid's row
+    of the consensus table."""
+    st = _style(width_mm)
+    k = 1.959964
+    d = scores.sort_values("ΔH_vap at section T_m [kJ/mol]").reset_index(drop=True)
+    x = d["ΔH_vap at section T_m [kJ/mol]"].astype(float).to_numpy()
+    u = d["u(ΔH_vap at section T_m) [kJ/mol]"].astype(float).to_numpy()
+    n = len(d)
+    height = min(max(2.2, 0.9 + 0.16 * n), 9.0)
+    fig = Figure(figsize=(width_mm / MM_PER_INCH, height), layout="constrained")
+    ax = fig.add_subplot()
+    y = np.arange(n)
+    c, uc = float(row["consensus ΔH_vap [kJ/mol]"]), float(row["u(consensus ΔH_vap) [kJ/mol]"])
+    ax.axvspan(c - k * uc, c + k * uc, color="0.85", lw=0, label="consensus, 95 %")
+    ax.axvline(c, color="0.35", lw=st["lw"])
+    ref = row.get("reference ΔH_vap at T_m [kJ/mol]", np.nan)
+    if np.isfinite(ref):
+        ax.axvline(ref, color="k", ls="--", lw=st["lw"], label="published curve")
+    sig = d["signal"].fillna("").to_numpy()
+    for kind, marker, face, label in (("", "o", "k", "run, 95 % interval"),
+                                      ("warning", "^", "none", "warning signal (2 < |ζ| < 3)"),
+                                      ("action", "^", "k", "action signal (|ζ| ≥ 3)")):
+        sel = sig == kind
+        if sel.any():
+            ax.errorbar(x[sel], y[sel], xerr=k * u[sel], fmt=marker, mfc=face, mec="k",
+                        ecolor="0.4", ms=st["ms"], lw=st["lw"], label=label)
+    ax.set_yticks(y, [str(r) for r in d["run_id"]], fontsize=st["small"] if n <= 40 else 5)
+    ax.set_xlabel(r"$\Delta H_\mathrm{vap}$ at " + D.number(float(row["T_m [K]"]), "K")
+                  + " [kJ/mol]", fontsize=st["font"])
+    ax.tick_params(labelsize=st["small"])
+    ax.set_title(f"{row['liquid']}: {int(row['runs used'])} of {int(row['runs'])} runs in "
+                 f"the consensus ({row['method']})", fontsize=st["font"])
+    fig.legend(fontsize=st["small"], frameon=False, loc="outside lower center", ncol=2)
+    return fig

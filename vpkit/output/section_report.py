@@ -18,17 +18,34 @@ from pathlib import Path
 import numpy as np
 
 from .. import display as D
-from .figures import overview_figure
+from .figures import overview_figure, section_figure
 from .run_summary import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
 
-#: Columns shown in the report's summary table, with how each is rounded.
-SUMMARY_COLUMNS = ["run_id", "liquid", "points used", "points total", "T_min [degC]",
-                   "T_max [degC]", "ΔH_vap [kJ/mol]", "reference ΔH_vap at T_m [kJ/mol]",
-                   "deviation from reference [u]", "T_b at 101.325 kPa [degC]",
-                   "T_b bias at 101.325 kPa [K]", "measured - predicted T_b [K]",
-                   "true ΔvapH at T_m [kJ/mol]", "published ΔvapH at T_m [kJ/mol]",
-                   "ΔS_vap at T_b [J/(mol K)]", "reduced chi2", "u(ΔH_vap) mostly from",
-                   "flags", "status"]
+#: The report's summary table: header -> (column, its uncertainty column or None, how shown).
+#: One rule (vpkit.display): a value with its u by GUM 7.2.6; a value without u to four
+#: significant digits; a score or a deviation in u with one decimal and its sign.
+SUMMARY_TABLE = [
+    ("run", "run_id", None, "text"), ("liquid", "liquid", None, "text"),
+    ("points used / total", "points used", "points total", "count"),
+    ("bath [°C]", "T_min [degC]", "T_max [degC]", "range"),
+    ("air amount from", "air amount from", None, "text"),
+    ("ΔH_vap [kJ/mol]", "ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]", "value_u"),
+    ("T_m [K]", "T_m [K]", None, "number"),
+    ("deviation from reference [u]", "deviation from reference [u]", None, "signed"),
+    ("ζ vs section", "ζ vs consensus", None, "signed"),
+    ("signal", "signal", None, "text"),
+    ("T_b at 101.325 kPa [°C]", "T_b at 101.325 kPa [degC]", "u(T_b at 101.325 kPa) [K]",
+     "value_u"),
+    ("T_b bias [K]", "T_b bias at 101.325 kPa [K]", "u(T_b bias) [K]", "value_u"),
+    ("measured − predicted T_b [K]", "measured - predicted T_b [K]",
+     "u(T_b at run pressure) [K]", "value_u"),
+    ("true ΔvapH [kJ/mol]", "true ΔvapH at T_m [kJ/mol]", "u(true ΔvapH) [kJ/mol]",
+     "value_u"),
+    ("ΔS_vap at T_b [J/(mol K)]", "ΔS_vap at T_b [J/(mol K)]", "u(ΔS_vap) [J/(mol K)]",
+     "value_u"),
+    ("reduced χ²", "reduced chi2", None, "number"),
+    ("u(ΔH_vap) mostly from", "u(ΔH_vap) mostly from", None, "text"),
+    ("flags", "flags", None, "text"), ("status", "status", None, "text")]
 
 
 def methods_paragraph(many) -> str:
@@ -80,22 +97,82 @@ def methods_paragraph(many) -> str:
            else "."))
 
 
-def _cell(col: str, value) -> str:
-    """One summary cell as text, by the rounding rule."""
-    if isinstance(value, (float, np.floating)):
-        if not np.isfinite(value):
-            return ""
-        if col in ("points used", "points total"):
-            return f"{int(value)}"
-        if "[u]" in col:
-            return D.signed(value, "", 1)
-        return D.number(value, "", 4)
-    return str(value)
+def _num(v):
+    try:
+        v = float(v)
+    except (TypeError, ValueError):
+        return np.nan
+    return v
+
+
+def _cell(row, col, other, how) -> str:
+    """One summary cell as text, by the one rounding rule."""
+    v = row.get(col, np.nan)
+    if how == "text":
+        return "" if v is None or (isinstance(v, float) and np.isnan(v)) else str(v)
+    v = _num(v)
+    if not np.isfinite(v):
+        return ""
+    if how == "count":
+        w = _num(row.get(other))
+        return f"{int(v)} / {int(w)}" if np.isfinite(w) else f"{int(v)}"
+    if how == "range":
+        return f"{D.number(v, '', 3)}–{D.number(_num(row.get(other)), '', 3)}"
+    if how == "signed":
+        return D.signed(v, "", 1)
+    if how == "value_u":
+        return D.value_u(v, _num(row.get(other)))
+    return D.number(v, "", 4)
 
 
 def _rows(summary):
-    for _, row in summary[SUMMARY_COLUMNS].iterrows():
-        yield [_cell(c, row[c]) for c in SUMMARY_COLUMNS]
+    for _, row in summary.iterrows():
+        yield [_cell(row, col, other, how) for _, col, other, how in SUMMARY_TABLE]
+
+
+SUMMARY_COLUMNS = [head for head, *_ in SUMMARY_TABLE]
+
+
+#: The report's consensus table (one row per liquid).
+CONSENSUS_TABLE = [
+    ("liquid", "liquid", None, "text"), ("runs in consensus / runs", "runs used", "runs", "count"),
+    ("T_m [K]", "T_m [K]", None, "number"),
+    ("consensus ΔH_vap [kJ/mol]", "consensus ΔH_vap [kJ/mol]", "u(consensus ΔH_vap) [kJ/mol]",
+     "value_u"),
+    ("method", "method", None, "text"), ("Birge ratio", "Birge ratio", None, "number"),
+    ("between-run SD [kJ/mol]", "between-run SD [kJ/mol]", None, "number"),
+    ("robust ΔH_vap (Algorithm A) [kJ/mol]", "robust ΔH_vap (Algorithm A) [kJ/mol]",
+     None, "number"),
+    ("joint fit ΔH_vap [kJ/mol]", "joint-fit ΔH_vap [kJ/mol]", "u(joint-fit ΔH_vap) [kJ/mol]",
+     "value_u"),
+    ("published ΔH_vap at T_m [kJ/mol]", "reference ΔH_vap at T_m [kJ/mol]", None, "number"),
+    ("consensus T_b at 101.325 kPa [°C]", "consensus T_b at 101.325 kPa [degC]",
+     "u(consensus T_b at 101.325 kPa) [K]", "value_u"),
+    ("published T_b [°C]", "reference T_b at 101.325 kPa [degC]", None, "number")]
+
+
+def _consensus_rows(cons):
+    for _, row in cons.iterrows():
+        yield [_cell(row, col, other, how) for _, col, other, how in CONSENSUS_TABLE]
+
+
+ROUNDING_NOTE = ("Numbers are rounded by one rule: a value with its standard uncertainty to "
+                 "two significant digits of the uncertainty (GUM 7.2.6), a value without one "
+                 "to four significant digits, scores and deviations in u to one decimal; "
+                 "summary.csv and consensus.csv keep full precision.")
+
+CONSENSUS_SENTENCE = (
+    "For each liquid with two or more analysed runs, ΔH_vap of every run was carried to the "
+    "mean of the runs' T_m and the section's value taken as follows: runs with a robust "
+    "|z| ≥ 3 (ISO 13528:2022 Algorithm A) were left out; of the rest, the weighted mean "
+    "(Birge ratio R_B, Birge 1932) when their χ² lay below its 95th percentile, else the "
+    "Paule–Mandel random-effects mean (Paule & Mandel 1982; DerSimonian–Laird, DerSimonian & "
+    "Laird 1986, and the robust mean are listed beside it); runs 3 or more of the expected "
+    "spread from the consensus without them were then left out one at a time. Each run's "
+    "uncertainty there was evaluated at the consensus. Each run's ζ compares it with the "
+    "consensus without it, using both uncertainties; |ζ| ≥ 3 is an action signal and 2 < |ζ| "
+    "< 3 a warning (ISO 13528:2022). The joint fit fits one curve to every point of the "
+    "runs in the consensus, each run weighted by its own covariance evaluated at that curve.")
 
 
 def _png(fig, dpi=150) -> bytes:
@@ -143,18 +220,29 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
                   for rid, a in analyses.items() for i in range(a.n) if not a.include[i]]
     methods = methods_paragraph(many)
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    cons = many.consensus
+    cons.to_csv(out / "consensus.csv", index=False, float_format=CSV_FLOAT)
+    section_figs = {}
+    for _, row in cons.iterrows():
+        runs = summary[(summary["section"] == row["liquid"])
+                       & summary["ΔH_vap at section T_m [kJ/mol]"].astype(float).notna()]
+        png = _png(section_figure(runs, row))
+        section_figs[str(row["liquid"])] = png
+        (out / "figures" / f"section_{_safe(row['liquid'])}.png").write_bytes(png)
     parts = _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions,
-                  run_figs)
+                  run_figs, cons, section_figs)
     html_path = out / "report.html"
     html_path.write_text("\n".join(parts), encoding="utf-8")
     md_path = out / "report.md"
     md_path.write_text(_markdown(title, stamp, methods, summary, flagged, not_analysed,
-                                 exclusions, run_figs), encoding="utf-8")
+                                 exclusions, run_figs, cons, section_figs), encoding="utf-8")
     return {"html": html_path, "markdown": md_path, "summary_csv": out / "summary.csv",
-            "summary": summary, "failed": many.failed}
+            "consensus_csv": out / "consensus.csv", "summary": summary,
+            "consensus": cons, "failed": many.failed}
 
 
-def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions, run_figs):
+def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions, run_figs,
+          cons, section_figs):
     e = html.escape
 
     def img(png: bytes, alt: str) -> str:
@@ -171,9 +259,23 @@ def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusion
         f"<p class='safety'>{e(SAFETY_NOTE)}</p>",
         f"<h2>Methods</h2><p>{e(methods)}</p>",
         "<h2>Summary</h2>", f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>",
-        "<p><small>Numbers rounded to four significant digits for display; summary.csv keeps "
-        "full precision.</small></p>",
+        f"<p><small>{e(ROUNDING_NOTE)}</small></p>",
         "<h2>Overview</h2>", img(over, "ΔH_vap of every run against the reference"),
+        "<h2>Section consensus</h2>",
+    ]
+    if len(cons):
+        chead = "".join(f"<th>{e(c)}</th>" for c, *_ in CONSENSUS_TABLE)
+        cbody = "".join("<tr>" + "".join(f"<td>{e(v)}</td>" for v in row) + "</tr>"
+                        for row in _consensus_rows(cons))
+        parts += [f"<p>{e(CONSENSUS_SENTENCE)}</p>",
+                  f"<table><thead><tr>{chead}</tr></thead><tbody>{cbody}</tbody></table>",
+                  "<p><small>consensus.csv holds every estimator with full precision."
+                  "</small></p>"]
+        parts += [f"<h3>{e(liq)}</h3>" + img(png, f"runs of {liq} against the consensus")
+                  for liq, png in section_figs.items()]
+    else:
+        parts.append("<p>No liquid has two or more analysed runs.</p>")
+    parts += [
         "<h2>Runs that need a second look</h2>",
     ]
     if len(flagged):
@@ -197,14 +299,28 @@ def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusion
     return parts
 
 
-def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions, run_figs):
+def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions, run_figs,
+              cons, section_figs):
     md = [f"# {md_text(title)}", "", f"Generated by vpkit on {stamp}.", "",
           f"> {SAFETY_NOTE}", "", "## Methods", "", md_text(methods), "", "## Summary", ""]
     md.append("| " + " | ".join(md_text(c) for c in SUMMARY_COLUMNS) + " |")
     md.append("|" + "---|" * len(SUMMARY_COLUMNS))
     md += ["| " + " | ".join(md_text(v) for v in row) + " |" for row in _rows(summary)]
-    md += ["", "## Overview", "", "![overview](figures/overview.png)", "",
-           "## Runs that need a second look", ""]
+    md += ["", md_text(ROUNDING_NOTE), "", "## Overview", "", "![overview](figures/overview.png)",
+           "", "## Section consensus", ""]
+    if len(cons):
+        md += [md_text(CONSENSUS_SENTENCE), ""]
+        md.append("| " + " | ".join(md_text(c) for c, *_ in CONSENSUS_TABLE) + " |")
+        md.append("|" + "---|" * len(CONSENSUS_TABLE))
+        md += ["| " + " | ".join(md_text(v) for v in row) + " |"
+               for row in _consensus_rows(cons)]
+        md += ["", "consensus.csv holds every estimator with full precision.", ""]
+        for liq in section_figs:
+            md += [f"### {md_text(liq)}", "",
+                   f"![{md_text(liq)}](figures/section_{_safe(liq)}.png)", ""]
+    else:
+        md += ["No liquid has two or more analysed runs.", ""]
+    md += ["## Runs that need a second look", ""]
     md += [f"- **{md_text(r['run_id'])}** ({md_text(r['liquid'])}): {md_text(r['flag reasons'])}"
            for _, r in flagged.iterrows()] or ["None."]
     if len(not_analysed):

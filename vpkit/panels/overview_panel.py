@@ -16,13 +16,14 @@ import ipywidgets as W
 
 from .. import display as D
 from ..analysis.many_runs import analyze_many
-from ..output.figures import overview_figure
+from ..output.figures import overview_figure, section_figure
 from ..output.run_summary import SAFETY_NOTE
 from .explorer import RunPanel
 
 TABLE_COLUMNS = ["run_id", "liquid", "points used", "ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]",
-                 "deviation from reference [u]", "T_b at 101.325 kPa [degC]",
-                 "measured - predicted T_b [K]", "reduced chi2", "flags", "status"]
+                 "deviation from reference [u]", "ζ vs consensus", "signal",
+                 "T_b at 101.325 kPa [degC]", "measured - predicted T_b [K]", "reduced chi2",
+                 "flags", "status"]
 
 
 def overview(source, **options) -> OverviewPanel:
@@ -62,12 +63,18 @@ class OverviewPanel:
         self.w_figure = W.Image(format="png", layout=W.Layout(max_width="900px"))
         self.w_messages = W.HTML()
         self.w_detail = W.VBox()
+        self.w_liquid = W.Dropdown(options=[], description="section")
+        self.w_section = W.Image(format="png", layout=W.Layout(max_width="760px"))
+        self.w_consensus = W.HTML()
+        self.w_liquid.observe(lambda _: self._render_section(), names="value")
         for w in (self.w_sort, self.w_desc, self.w_flagged):
             w.observe(lambda _: self._render_table(), names="value")
         self.w_runs.observe(self._on_select, names="value")
         self.w_refresh.on_click(lambda _: self.refresh())
         self.widget = W.VBox([
-            self.w_figure, W.HBox([self.w_sort, self.w_desc, self.w_flagged, self.w_refresh]),
+            self.w_figure, W.HTML("<b>Section consensus</b>"), self.w_liquid, self.w_consensus,
+            self.w_section,
+            W.HBox([self.w_sort, self.w_desc, self.w_flagged, self.w_refresh]),
             self.w_table, self.w_messages, self.w_runs, self.w_detail,
             W.HTML(f"<small>{html.escape(SAFETY_NOTE)}</small>")])
         self.refresh()
@@ -91,7 +98,38 @@ class OverviewPanel:
                 f"{html.escape(str(r['status']))}</span>"
                 for _, r in self.summary[self.summary["status"].fillna("") != ""].iterrows()]
         self.w_messages.value = "<br>".join(msgs)
+        liquids = list(self.result.consensus["liquid"])
+        self.w_liquid.options = liquids
+        if liquids and self.w_liquid.value not in liquids:
+            self.w_liquid.value = liquids[0]
+        self._render_section()
         self._render_table()
+
+    def _render_section(self) -> None:
+        """The chosen liquid's runs against the consensus (figure), and its numbers."""
+        cons = self.result.consensus.set_index("liquid", drop=False)
+        liq = self.w_liquid.value
+        if liq is None or liq not in cons.index:
+            self.w_section.value, self.w_consensus.value = b"", (
+                "<i>no liquid has two or more analysed runs</i>")
+            return
+        row = cons.loc[liq]
+        runs = self.summary[(self.summary["section"] == liq)
+                            & self.summary["ΔH_vap at section T_m [kJ/mol]"].notna()]
+        buf = io.BytesIO()
+        section_figure(runs, row).savefig(buf, format="png", dpi=110)
+        self.w_section.value = buf.getvalue()
+        vu = lambda v, u, unit: D.value_u(row[v], row[u], unit)  # noqa: E731
+        self.w_consensus.value = html.escape(
+            f"{liq}: ΔH_vap = "
+            + vu("consensus ΔH_vap [kJ/mol]", "u(consensus ΔH_vap) [kJ/mol]", "kJ/mol")
+            + f" at {D.number(row['T_m [K]'], 'K')} ({row['method']}, "
+            f"{int(row['runs used'])} of {int(row['runs'])} runs, Birge ratio "
+            f"{D.number(row['Birge ratio'], '', 3)}); joint fit "
+            + vu("joint-fit ΔH_vap [kJ/mol]", "u(joint-fit ΔH_vap) [kJ/mol]", "kJ/mol")
+            + "; T_b at 101.325 kPa "
+            + vu("consensus T_b at 101.325 kPa [degC]", "u(consensus T_b at 101.325 kPa) [K]",
+                 "degC"))
 
     def sorted_summary(self):
         col = self.w_sort.value

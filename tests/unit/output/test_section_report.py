@@ -50,7 +50,7 @@ def test_html_is_self_contained_and_escapes_user_text(tmp_path):
     p = _Collect()
     p.feed(html)
     assert p.scripts == 0 and "http" not in " ".join(p.imgs)
-    assert len(p.imgs) == 1 + 4  # overview + one per run
+    assert len(p.imgs) == 1 + 1 + 4  # overview + the ethanol section (2 runs) + one per run
     assert all(src.startswith("data:image/png;base64,") for src in p.imgs)
     assert "<script>alert" not in html and "&lt;script&gt;alert" in html
     text = " ".join(p.text)
@@ -76,3 +76,23 @@ def test_report_command(tmp_path, capsys):
     out = capsys.readouterr().out
     assert "4 run(s) analysed" in out and "could not be read" in out
     assert (tmp_path / "o" / "report.html").exists()
+
+
+def test_the_section_part_and_consensus_csv(tmp_path):
+    """The report names the estimators and their sources, shows ΔH_vap with its u, writes
+    consensus.csv with every estimator, and every number in its tables follows the one
+    rounding rule (no value of a CSV with full precision leaks into the text)."""
+    import pandas as pd
+
+    res = write_batch_report(analyze_many(_folder(tmp_path)), tmp_path / "out")
+    md = res["markdown"].read_text()
+    assert "## Section consensus" in md and "Paule–Mandel" in md and "ISO 13528" in md
+    cons = pd.read_csv(res["consensus_csv"])
+    assert list(cons["liquid"]) == ["ethanol"]
+    for col in ("Birge ratio", "DerSimonian-Laird ΔH_vap [kJ/mol]",
+                "robust ΔH_vap (Algorithm A) [kJ/mol]", "joint-fit ΔH_vap [kJ/mol]"):
+        assert np.isfinite(cons[col]).all(), col
+    row = res["summary"].set_index("run_id").loc["pair1"]
+    shown = vpkit.display.value_u(row["ΔH_vap [kJ/mol]"], row["u(ΔH_vap) [kJ/mol]"])
+    assert f"| {shown} |" in md
+    assert repr(row["ΔH_vap [kJ/mol]"]) not in md
