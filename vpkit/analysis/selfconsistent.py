@@ -40,9 +40,6 @@ SELF_CONSISTENT_ROUNDS = 30
 SELF_CONSISTENT_GIVE_UP = 1e-3
 #: Passes that make the weights consistent with the dp/du term at one p.
 IMPLICIT_PASSES = 3
-#: Passes of every fit with the covariance of ln p at the fitted curve (Peelle's puzzle:
-#: see :func:`vpkit.fitting.fit.fit_stack`); the engine's final fit uses the same.
-FITTED_PASSES = 2
 #: The model of the fallback extrapolation to the air reference.
 LINE = "clausius_clapeyron"
 
@@ -76,7 +73,7 @@ def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, f
     if fit:
         fit = fit_stack(choices.model, np.where(mask, stack.T[idx], np.nan), lnp, fit_inc,
                         weighting=choices.weighting, cov_y=cov_y, cov_yT=cov_yT, cov_T=cov_T,
-                        influence=False, at_fitted=FITTED_PASSES)
+                        influence=False, at_fitted=True)
     else:
         fit = None
     return {"nominal": {k: np.array(v) for k, v in nominal.items()}, "J": np.array(J),

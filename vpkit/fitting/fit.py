@@ -115,12 +115,13 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
         A fixed whitening (lower Cholesky factor of the residual covariance):
         no effective-variance rounds (Monte Carlo and self-consistent solves
         reuse the nominal fit's weights).
-    at_fitted : int
-        Passes with the covariance of ln p evaluated at the fitted curve instead of
-        the data (``space="ln_p"``): cov_y and cov_yT are scaled by s_i = p_i/p_fit(T_i),
-        s_i s_j and s_i, and the fit repeated. A covariance built from the measured
-        points (d ln p/du carries 1/p of each noisy point) with inputs every point
-        shares biases GLS [8]; ``StackFit.cov_scale`` holds the s used.
+    at_fitted : bool
+        Evaluate the covariance of ln p at the fitted curve instead of the data
+        (``space="ln_p"``): in every round of the effective variance, cov_y and cov_yT
+        are scaled by s_i s_j and s_i, s_i = p_i/p_fit(T_i) at the current parameters.
+        A covariance built from the measured points (d ln p/du carries 1/p of each
+        noisy point) with inputs every point shares biases GLS [8];
+        ``StackFit.cov_scale`` holds s at the solution.
 
     Returns
     -------
@@ -129,20 +130,13 @@ def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", co
         ``status``; this function never raises for them.
     """
     with np.errstate(all="ignore"):  # failures are reported in ``status``, not warned
-        if not (at_fitted and cov_y is not None and chol is None and space == "ln_p"):
-            return _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space,
-                              start, search, influence, chol)
-        cov_y, T, y = np.asarray(cov_y, float), np.asarray(T, float), np.asarray(y, float)
-        s = np.ones(y.shape)
-        for k in range(at_fitted + 1):
-            last = k == at_fitted
-            fit = _fit_stack(model, T, y, mask, weighting, s[..., :, None] * cov_y
-                             * s[..., None, :], None if cov_yT is None else
-                             s[..., :, None] * np.asarray(cov_yT, float), cov_T, space, start,
-                             search, influence and last, chol)
-            if not last:
-                s = _fitted_scale(fit, T, y)
-        return dataclasses.replace(fit, cov_scale=readonly(s))
+        at = bool(at_fitted and cov_y is not None and chol is None and space == "ln_p")
+        fit = _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start,
+                         search, influence, chol, at)
+        if not at:
+            return fit
+        return dataclasses.replace(fit, cov_scale=readonly(_fitted_scale(
+            fit, np.atleast_2d(np.asarray(T, float)), np.atleast_2d(np.asarray(y, float)))))
 
 
 def _fitted_scale(fit: StackFit, T, y) -> np.ndarray:
@@ -163,7 +157,7 @@ def _not_converged(m: Model) -> str:
 
 
 def _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start, search,
-               influence, chol) -> StackFit:
+               influence, chol, at_fitted=False) -> StackFit:
     m = model if isinstance(model, Model) else get_model(model)
     if weighting not in WEIGHTINGS:
         raise FitError(f"weighting must be one of {', '.join(WEIGHTINGS)}, got {weighting!r}")
@@ -183,12 +177,13 @@ def _fit_stack(model, T, y, mask, weighting, cov_y, cov_yT, cov_T, space, start,
     L = (np.array(np.broadcast_to(np.asarray(chol, float), (Rn, N, N))) if chol is not None
          else np.array(np.broadcast_to(np.eye(N), (Rn, N, N))))
     th, starts = _starting_values(m, Tsafe, ysafe, mask, good, start, search)
-    covs = None if (weighting == "ordinary" or chol is not None) else (cov_y, cov_yT, cov_T)
+    at = (ysafe,) if at_fitted else ()  # scale cov(ln p) to the curve at each round
+    covs = None if (weighting == "ordinary" or chol is not None) else (cov_y, cov_yT, cov_T, *at)
     C, last = _effective_variance(m, weighting, space, covs, Tsafe, ysafe, mask, th, L,
                                   starts, status, good)
     reuse = last if (m.linear and space == "ln_p") else None
-    full = (cov_y, cov_yT, cov_T) if (weighting != "gls" and cov_y is not None
-                                      and chol is None) else None
+    full = (cov_y, cov_yT, cov_T, *at) if (weighting != "gls" and cov_y is not None
+                                           and chol is None) else None
     return _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, influence,
                    reuse, full)
 
@@ -256,10 +251,15 @@ def _effective_variance(m, weighting, space, covs, Tsafe, ysafe, mask, th, L, st
 
 def _round_covariance(m, weighting, space, covs, T, th, mask, a):
     """Residual covariance of the sets ``a`` at their current parameters (effective variance)."""
-    cov_y, cov_yT, cov_T = covs
-    C = residual_covariance(np.asarray(cov_y, float)[a],
-                            None if cov_yT is None else np.asarray(cov_yT)[a],
-                            None if cov_T is None else np.asarray(cov_T)[a],
+    cov_y, cov_yT, cov_T, *at = covs
+    cy = np.asarray(cov_y, float)[a]
+    cyT = None if cov_yT is None else np.asarray(cov_yT)[a]
+    if at:  # at the curve: d ln p/du carries 1/p_fit, not 1/p of the noisy point
+        s = np.where(mask, np.exp(at[0][a] - m.f(T, th)), 1.0)
+        s = np.where(np.isfinite(s) & (s > 0), s, 1.0)
+        cy = s[..., :, None] * cy * s[..., None, :]
+        cyT = None if cyT is None else s[..., :, None] * cyT
+    C = residual_covariance(cy, cyT, None if cov_T is None else np.asarray(cov_T)[a],
                             np.where(mask, m.df_dT(T, th), 0.0))
     if space == "p":
         e = np.exp(m.f(T, th))
