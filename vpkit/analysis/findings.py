@@ -209,19 +209,28 @@ def _point_checks(res, out) -> None:
 def _fahrenheit_slips(res, out) -> None:
     """A single bath reading written in degF among degC ones (common practice, no source:
     it stands more than 20 K above every other point, and read as degF it falls inside
-    the others' range, 5 K margin)."""
-    t = np.where(res.stack.mask, res.stack.T - T_ZERO_C, np.nan)
-    n = res.stack.mask.sum(axis=1)
-    for r in np.flatnonzero(res.ok & (n >= 4)):
-        row = t[r, :n[r]]
-        i = int(np.nanargmax(row))
-        others = np.delete(row, i)
-        as_c = (row[i] - 32.0) * 5.0 / 9.0
-        if row[i] > others.max() + 20.0 and others.min() - 5.0 <= as_c <= others.max() + 5.0:
-            out[r].append(Finding("degF?", SuspectPointWarning, (
-                f"point {i} ({row[i]:.2f} degC) stands {row[i] - others.max():.0f} K above the "
-                f"next hottest point; read as degF it is {as_c:.1f} degC, inside the run's "
-                "range: was it read on a Fahrenheit scale? (correct it in the run file)")))
+    the others' range, 5 K margin). Vectorised over runs; texts only for the hits."""
+    mask = res.stack.mask
+    t = np.where(mask, res.stack.T - T_ZERO_C, -np.inf)
+    n = mask.sum(axis=1)
+    if not t.size:
+        return
+    i = np.argmax(t, axis=1)
+    rows = np.arange(len(t))
+    top = t[rows, i]
+    rest = t.copy()
+    rest[rows, i] = -np.inf
+    hi = rest.max(axis=1)
+    lo = np.where(mask, res.stack.T - T_ZERO_C, np.inf)
+    lo[rows, i] = np.inf
+    lo = lo.min(axis=1)
+    as_c = (top - 32.0) * 5.0 / 9.0
+    hit = res.ok & (n >= 4) & (top > hi + 20.0) & (lo - 5.0 <= as_c) & (as_c <= hi + 5.0)
+    for r in np.flatnonzero(hit):
+        out[r].append(Finding("degF?", SuspectPointWarning, (
+            f"point {i[r]} ({top[r]:.2f} degC) stands {top[r] - hi[r]:.0f} K above the "
+            f"next hottest point; read as degF it is {as_c[r]:.1f} degC, inside the run's "
+            "range: was it read on a Fahrenheit scale? (correct it in the run file)")))
 
 
 def _reference_checks(res, add, out, span) -> None:

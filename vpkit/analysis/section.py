@@ -55,46 +55,48 @@ def liquid_key(liquid: str) -> str:
         str(liquid).split()).lower()
 
 
-def _carried(blocks, targets: dict[str, float]) -> dict[str, dict]:
-    """Per analysed run at its liquid's section T_m: ΔH_vap [J/mol] (``x``), its u from the
-    run's own covariance (``u``), and what re-evaluating that u needs (block, row,
-    gradient, the carrying's own u)."""
-    out = {}
-    for _, res in blocks:
-        keys = [liquid_key(x) for x in res.stack.liquid]
-        T = np.array([targets.get(k, np.nan) for k in keys])
-        if not np.isfinite(T).any():
+def _carried(blocks, targets: dict[str, float]) -> dict:
+    """Every analysed run of a section, at its liquid's section T_m, as arrays: ``id``,
+    ``x`` (ΔH_vap [J/mol]), ``u`` (from the run's own covariance), and what re-evaluating
+    u needs: ``block`` and ``row`` of its result, ``grad`` (dΔH/dθ), ``gT`` (dT_b/dθ),
+    ``u_adj`` (the carrying's own u) and ``T`` (the section T_m)."""
+    parts = []
+    for b, (_, res) in enumerate(blocks):
+        names = np.asarray(res.stack.liquid, dtype=object)
+        T = np.full(res.R, np.nan)
+        for liq in set(res.stack.liquid):  # one lookup per liquid, not per run
+            T[names == liq] = targets.get(liquid_key(liq), np.nan)
+        rows = np.flatnonzero(res.ok & np.isfinite(T))
+        if not rows.size:
             continue
-        c = enthalpy_at(res.fit, res.resolved.own_curve, np.where(np.isfinite(T), T, 300.0))
-        u = np.hypot(quad(c["grad"], res.fit.cov), c["u_adj"])
-        _, _, gT, _ = res.fit.boiling_point(P_STANDARD)
-        for r, rid in enumerate(res.stack.run_ids):
-            if res.ok[r] and np.isfinite(T[r]):
-                out[rid] = {"x": float(c["value"][r]), "u": float(u[r]), "res": res, "row": r,
-                            "grad": c["grad"][r], "gT": gT[r], "u_adj": float(c["u_adj"][r]),
-                            "T": float(T[r])}
-    return out
+        f = res.fit.take(rows)
+        c = enthalpy_at(f, res.resolved.own_curve.take(rows), T[rows])
+        _, _, gT, _ = f.boiling_point(P_STANDARD)
+        parts.append({"id": np.asarray(res.stack.run_ids, dtype=object)[rows],
+                      "x": c["value"], "u": np.hypot(quad(c["grad"], f.cov), c["u_adj"]),
+                      "block": np.full(rows.size, b), "row": rows, "grad": c["grad"],
+                      "gT": gT, "u_adj": c["u_adj"], "T": T[rows]})
+    if not parts:
+        return {}
+    return {k: np.concatenate([q[k] for q in parts]) for k in parts[0]}
 
 
-def _u_at_consensus(runs: list[dict], X: float) -> tuple[np.ndarray, np.ndarray]:
-    """u(ΔH_vap) and u(T_b) of each run with its ln p covariance evaluated at the curve
-    through its own data whose ΔH_vap at the section T_m is the consensus X (one batch per
-    block of results), instead of at its own ΔH_vap."""
-    uH, uT = np.empty(len(runs)), np.empty(len(runs))
-    by_block: dict[int, list[int]] = {}
-    for k, d in enumerate(runs):
-        by_block.setdefault(id(d["res"]), []).append(k)
-    for ks in by_block.values():
-        res = runs[ks[0]]["res"]
-        rows = np.array([runs[k]["row"] for k in ks])
+def _u_at_consensus(blocks, c: dict, pos: np.ndarray, X: float) -> tuple[np.ndarray,
+                                                                         np.ndarray]:
+    """u(ΔH_vap) and u(T_b) of the runs ``pos`` of :func:`_carried` with each run's ln p
+    covariance evaluated at the curve through its own data whose ΔH_vap at the section
+    T_m is the consensus X (one batch per block of results), instead of at its own."""
+    uH, uT = np.empty(pos.size), np.empty(pos.size)
+    for b in np.unique(c["block"][pos]):
+        k = np.flatnonzero(c["block"][pos] == b)
+        res = blocks[b][1]
+        rows = c["row"][pos[k]]
         f = res.fit
-        theta = with_enthalpy(f.model, f.params[rows], f.T_m[rows],
-                              np.array([runs[k]["T"] for k in ks]), np.full(len(ks), X))
+        theta = with_enthalpy(f.model, f.params[rows], f.T_m[rows], c["T"][pos[k]],
+                              np.full(k.size, X))
         cov = parameter_covariance(res, rows, theta=theta)
-        g = np.array([runs[k]["grad"] for k in ks])
-        gT = np.array([runs[k]["gT"] for k in ks])
-        uH[ks] = np.hypot(quad(g, cov), [runs[k]["u_adj"] for k in ks])
-        uT[ks] = quad(gT, cov)
+        uH[k] = np.hypot(quad(c["grad"][pos[k]], cov), c["u_adj"][pos[k]])
+        uT[k] = quad(c["gT"][pos[k]], cov)
     return uH, uT
 
 
@@ -210,24 +212,26 @@ def section_tables(summary: pd.DataFrame, blocks) -> tuple[pd.DataFrame, pd.Data
     T_m = summary["T_m [K]"].astype(float)
     targets = {k: float(T_m[ok & (keys == k)].mean()) for k in groups}
     carried = _carried(blocks, targets)
+    where = {rid: n for n, rid in enumerate(carried.get("id", ()))}
+    run_ids = summary["run_id"].astype(str).to_numpy()
     score = pd.DataFrame(index=summary.index, columns=list(SCORE_COLUMNS), dtype=object)
     for col in SCORE_COLUMNS[1:-1]:
         score[col] = np.nan
     score["signal"] = ""
     score["section"] = ""
     rows = []
+    ok_a, keys_a = ok.to_numpy(), keys.to_numpy()
     for k in sorted(groups):
-        sel = summary.index[ok & (keys == k)]
-        ids = summary.loc[sel, "run_id"].astype(str)
-        have = [i for i, rid in zip(sel, ids) if rid in carried]
+        sel = np.flatnonzero(ok_a & (keys_a == k))
+        pos = np.array([where.get(run_ids[i], -1) for i in sel], int)
+        have = summary.index[sel[pos >= 0]]
+        pos = pos[pos >= 0]
         if len(have) < 2:
             continue
-        info = [carried[summary.at[i, "run_id"]] for i in have]
-        x = np.array([d["x"] for d in info])
-        u = np.array([d["u"] for d in info])
+        x, u = carried["x"][pos], carried["u"][pos]
         cH = consensus(x, u)
         for _ in range(CONSENSUS_PASSES):  # each run's u evaluated at the consensus
-            u, utb = _u_at_consensus(info, cH.value)
+            u, utb = _u_at_consensus(blocks, carried, pos, cH.value)
             cH = consensus(x, u)
         sH = scores(x, u, cH)
         # T_b corrected for the model's own extrapolation bias where it is estimated

@@ -54,16 +54,25 @@ def _reference(res: Resolved, idx, fixed) -> ReferenceAtAir:
     return ReferenceAtAir(own.p, mode == "reference", np.where(mode == "fit", fixed, 0.0))
 
 
-def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, fit=True):
+def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, fit=True,
+                   reduced=None):
     """Reduction, Jacobian, covariance and (with ``fit``) fit of runs ``idx`` at p_ref
-    ``fixed_p``."""
+    ``fixed_p``. ``reduced``, a previous call's result at the same p, reuses its
+    reduction and Jacobian (only the dp/du term and the fit change)."""
     layout = _rows_layout(res.layout, idx)
     setup = setup_rows(res.setup, idx)
-    pref = _reference(res, idx, fixed_p)
     mask = stack.mask[idx]
-    nominal, J, J_pref = jacobian(layout, setup, pref, mask)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        lnp = np.log(nominal["p_vap"])
+    if reduced is None:
+        pref = _reference(res, idx, fixed_p)
+        nominal, J, J_pref = jacobian(layout, setup, pref, mask)
+        nominal = {k: np.array(v) for k, v in nominal.items()}
+        J, J_pref = np.array(J), np.array(J_pref)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            lnp = np.log(nominal["p_vap"])
+        p_ref = np.array(pref.values(nominal["T_ref"]), float)
+    else:
+        nominal, J, J_pref, lnp, p_ref = (reduced[k] for k in ("nominal", "J", "J_pref", "lnp",
+                                                                 "p_ref"))
     fit_inc = inc[idx] & np.isfinite(lnp)
     dp_du = np.zeros(layout.nominal.shape)
     if implicit_from is not None:
@@ -76,11 +85,9 @@ def reduce_and_fit(stack, res, choices, idx, fixed_p, inc, implicit_from=None, f
                         influence=False, at_fitted=True)
     else:
         fit = None
-    return {"nominal": {k: np.array(v) for k, v in nominal.items()}, "J": np.array(J),
-            "J_pref": np.array(J_pref), "dp_du": dp_du, "lnp": np.array(lnp),
-            "fit_inc": np.array(fit_inc),
-            "cov_y": np.array(cov_y), "cov_yT": cov_yT, "cov_T": cov_T, "fit": fit,
-            "p_ref": np.array(pref.values(nominal["T_ref"]), float)}
+    return {"nominal": nominal, "J": J, "J_pref": J_pref, "dp_du": dp_du, "lnp": lnp,
+            "fit_inc": np.array(fit_inc), "cov_y": np.array(cov_y), "cov_yT": cov_yT,
+            "cov_T": cov_T, "fit": fit, "p_ref": p_ref}
 
 
 def cold_columns(setup, R: int):
@@ -206,7 +213,8 @@ def _at_p(stack, res, choices, idx, p, inc):
     """
     cur = reduce_and_fit(stack, res, choices, idx, p, inc)
     for _ in range(IMPLICIT_PASSES):  # a fixed count: every run is treated alike in a batch
-        cur = reduce_and_fit(stack, res, choices, idx, p, inc, implicit_from=cur["fit"])
+        cur = reduce_and_fit(stack, res, choices, idx, p, inc, implicit_from=cur["fit"],
+                             reduced=cur)
     return cur
 
 

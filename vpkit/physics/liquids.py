@@ -70,20 +70,27 @@ def hvap_table() -> pd.DataFrame:
 HVAP_SOURCE = "VDI Heat Atlas 2010 D3.1 (PPDS eq. 12)"
 
 
+@functools.cache
 def has_vaporization_enthalpy(liquid: str) -> bool:
     """Whether a published ΔvapH(T) equation is bundled for ``liquid``."""
     return has_reference(liquid) and canonical_name(liquid) in set(hvap_table()["liquid"])
 
 
-def vaporization_enthalpy(liquid: str, T):
-    """The true ΔvapH(T) [J/mol] of a bundled liquid from PPDS equation 12 [3]."""
+@functools.cache
+def _hvap_coefficients(liquid: str) -> tuple[float, ...]:
     t = hvap_table()
     r = t[t["liquid"] == canonical_name(liquid)].iloc[0]
-    T_c = float(r["T_c"])
+    return tuple(float(r[k]) for k in ("T_c", "A", "B", "C", "D", "E"))
+
+
+def vaporization_enthalpy(liquid: str, T):
+    """The true ΔvapH(T) [J/mol] of a bundled liquid from PPDS equation 12 [3]."""
+    T_c, A, B, C, D, E = _hvap_coefficients(liquid)
+    T = np.asarray(T, float)
     with np.errstate(invalid="ignore"):
-        tau = np.where(np.asarray(T, float) < T_c, 1.0 - np.asarray(T, float) / T_c, np.nan)
-        return R * T_c * (r["A"] * np.cbrt(tau) + r["B"] * np.cbrt(tau) ** 2 + r["C"] * tau
-                          + r["D"] * tau**2 + r["E"] * tau**6)
+        tau = np.where(T < T_c, 1.0 - T / T_c, np.nan)
+        c = np.cbrt(tau)
+        return R * T_c * (A * c + B * c * c + C * tau + D * tau**2 + E * tau**6)
 
 
 @functools.cache
@@ -146,6 +153,7 @@ def canonical_name(liquid: str) -> str:
     return str(liquid_row(liquid)["liquid"])
 
 
+@functools.cache
 def has_reference(liquid: str) -> bool:
     """Whether the bundled table has ``liquid`` (aliases and CAS numbers accepted)."""
     return _key(liquid) in _name_index()

@@ -77,6 +77,7 @@ def virial_table() -> pd.DataFrame:
         return pd.read_csv(fh, comment="#", dtype={"cas": str})
 
 
+@functools.cache
 def has_virial(liquid: str) -> bool:
     """Whether the bundled table has the Tsonopoulos inputs for ``liquid``."""
     return has_reference(liquid) and canonical_name(liquid) in set(virial_table()["liquid"])
