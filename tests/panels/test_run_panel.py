@@ -238,3 +238,22 @@ def test_editing_the_run_file_keeps_matching_exclusions(run_file):
     assert q.include[6] is True
     assert any("re-applied" in m and "1 saved point(s) (6)" in m for m in q.messages)
     assert list(run_file.parent.glob("*.refused-*"))
+
+
+def test_two_explorers_on_one_run_never_overwrite_each_other(run_file):
+    """A second explorer whose session file changed under it says so, keeps its own state
+    aside, and offers to reload the other's (issue "safe with others")."""
+    a, b = explore(run_file, canvas="static"), explore(run_file, canvas="static")
+    a.toggle(2, "thermometer not settled")
+    b.toggle(5, "bubble lost")  # b read the file before a wrote it
+    assert b.conflict and "changed by another writer" in b.conflict
+    assert "Session conflict" in b.w_messages.value and b.w_reload.layout.display is None
+    kept = list(run_file.parent.glob("bench7.vpkit-session.mine-*.json"))
+    assert len(kept) == 1 and '"bubble lost"' in kept[0].read_text()
+    saved = vpkit.record.session.load_session(session_path(run_file))
+    assert saved.include[2] is False and saved.include[5] is True  # a's change, untouched
+    b.reload_session()
+    assert b.conflict is None and b.include[2] is False and b.include[5] is True
+    b.toggle(5, "bubble lost")  # now based on a's state: saved without conflict
+    saved = vpkit.record.session.load_session(session_path(run_file))
+    assert saved.include[2] is False and saved.include[5] is False

@@ -11,6 +11,7 @@ import html
 from pathlib import Path
 
 from .. import display as D
+from ..record.safewrite import atomic_write_text, write_table
 
 #: CSV numbers: 15 significant digits (all a double holds, without the 17th-digit noise
 #: of unit conversions, e.g. 29.6 rather than 29.600000000000023).
@@ -44,9 +45,12 @@ WEIGHT_TEXT = {
 
 
 def md_text(text) -> str:
-    """User text made safe for Markdown and HTML: no markup, no table breaks."""
-    text = html.escape(str(text), quote=False)
-    return text.replace("|", "\\|").replace("\n", " ").replace("`", "'")
+    """User text made safe for Markdown and HTML: no markup, no links, no table breaks
+    (HTML escaped; backslash, brackets, emphasis marks and bars backslash-escaped)."""
+    text = html.escape(str(text), quote=False).replace("\\", "\\\\")
+    for ch in "[]*_|":
+        text = text.replace(ch, "\\" + ch)
+    return text.replace("\n", " ").replace("\r", " ").replace("`", "'")
 
 
 def bias_text(r) -> str:
@@ -184,6 +188,16 @@ def summary_markdown(a, *, shifts: dict[str, float] | None = None) -> str:
     return "\n".join(lines)
 
 
+def flat_budget(budget):
+    """The budget with one header row, units in brackets, like the other tables:
+    ``input group``, then per quantity ``u from it [unit]``, ``share``, ``u if halved``."""
+    out = budget.copy()
+    unit = lambda q: "K" if q.startswith("T_b") else "kJ/mol"  # noqa: E731
+    out.columns = [f"{q}: {k} [{unit(q)}]" if k != "share" else f"{q}: share of u²"
+                   for q, k in out.columns]
+    return out.reset_index()
+
+
 def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None,
                   dpi: int = 300, formats: tuple[str, ...] = ("png", "svg")) -> dict:
     """Write the figure (``formats`` among png, svg, pdf; PNG at ``dpi``), the
@@ -202,8 +216,8 @@ def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None
     paths["results"] = out / f"{stem}_results.csv"
     paths["summary"] = out / f"{stem}_summary.md"
     paths["budget"] = out / f"{stem}_budget.csv"
-    a.budget().to_csv(paths["budget"], float_format=CSV_FLOAT)
-    a.points().to_csv(paths["points"], index=False, float_format=CSV_FLOAT)
-    a.results().to_csv(paths["results"], index=False, float_format=CSV_FLOAT)
-    paths["summary"].write_text(a.summary(), encoding="utf-8")
+    write_table(flat_budget(a.budget()), paths["budget"], float_format=CSV_FLOAT)
+    write_table(a.points(), paths["points"], float_format=CSV_FLOAT)
+    write_table(a.results(), paths["results"], float_format=CSV_FLOAT)
+    atomic_write_text(paths["summary"], a.summary())
     return paths

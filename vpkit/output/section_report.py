@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import display as D
+from ..record.safewrite import write_table
 from .figures import overview_figure, section_figure
 from .run_summary import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
 
@@ -204,7 +205,7 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
     out = Path(out_dir)
     (out / "figures").mkdir(parents=True, exist_ok=True)
     summary = many.summary
-    summary.to_csv(out / "summary.csv", index=False, float_format=CSV_FLOAT)
+    write_table(summary, out / "summary.csv", float_format=CSV_FLOAT)
     ok = summary[summary["status"].fillna("") == ""]
     over = _png(overview_figure(ok))
     (out / "figures" / "overview.png").write_bytes(over)
@@ -221,7 +222,7 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
     methods = methods_paragraph(many)
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
     cons = many.consensus
-    cons.to_csv(out / "consensus.csv", index=False, float_format=CSV_FLOAT)
+    write_table(cons, out / "consensus.csv", float_format=CSV_FLOAT)
     section_figs = {}
     for _, row in cons.iterrows():
         runs = summary[(summary["section"] == row["liquid"])

@@ -27,7 +27,9 @@ from ..record.cells import parse_number
 from ..record.run import Run
 from ..record.runfile import append_reading, read_run
 from ..record.session import (
+    SessionConflict,
     SessionState,
+    file_digest,
     points_of,
     restore_session,
     run_fingerprint,
@@ -92,12 +94,9 @@ class RunPanel:
         if has_reference(self.run.liquid):
             self.choices["reference_liquid"] = canonical_name(self.run.liquid)
         self.messages: list[str] = []
-        if self.session_file is not None:
-            restored = restore_session(self.session_file, self.run)
-            if restored is not None:
-                self.include, self.reasons = list(restored.include), list(restored.reasons)
-                self.choices.update(restored.choices)
-                self.messages.append(restored.message)
+        self.conflict: str | None = None
+        self._session_digest: str | None = None
+        self._restore()
         self.analysis: Analysis | None = None
         self.previous_enthalpy: float | None = None
         self.last_error: str | None = None
@@ -120,13 +119,42 @@ class RunPanel:
         return {"include": list(self.include), "reasons": list(self.reasons),
                 "choices": dict(self.choices)}
 
+    def _restore(self) -> None:
+        if self.session_file is None:
+            return
+        restored = restore_session(self.session_file, self.run)
+        if restored is not None:
+            self.include, self.reasons = list(restored.include), list(restored.reasons)
+            self.choices.update(restored.choices)
+            self.messages.append(restored.message)
+        self._session_digest = file_digest(self.session_file)
+
     def _save(self) -> None:
-        if not self.autosave:
+        if not self.autosave or self.conflict:
             return
         state = SessionState(run_fingerprint(self.run), tuple(self.include),
                              tuple(self.reasons), dict(self.choices),
                              points=points_of(self.run))
-        save_session(state, self.session_file)
+        try:
+            save_session(state, self.session_file, expected=self._session_digest)
+        except SessionConflict as exc:  # another explorer wrote it: say so, keep ours aside
+            self.conflict = str(exc)
+            if hasattr(self, "w_reload"):
+                self.w_reload.layout.display = None
+                self._show_messages()
+            return
+        self._session_digest = file_digest(self.session_file)
+
+    def reload_session(self) -> None:
+        """Take the session file as another writer left it (after a conflict) and show it;
+        this panel's own unsaved state was kept aside, as the conflict message says."""
+        self.conflict = None
+        self.include, self.reasons = list(self.run.include), list(self.run.reason)
+        self._restore()
+        self.points.build(self.run, self.include, self.reasons)
+        self._sync_choice_widgets()
+        self.w_reload.layout.display = "none"
+        self.refresh()
 
     # -- actions (also the programmatic interface) ------------------------------
     def toggle(self, index: int, reason: str | None = None) -> None:
@@ -225,6 +253,9 @@ class RunPanel:
         # readouts and messages
         self.w_readouts = W.HTML()
         self.w_messages = W.HTML()
+        self.w_reload = W.Button(description="reload the session", layout=W.Layout(
+            display="none"))
+        self.w_reload.on_click(lambda _: self.reload_session())
         # points table
         self.points = PointRows(self._on_point_box, self.set_reason)
         self.points.build(self.run, self.include, self.reasons)
@@ -259,7 +290,7 @@ class RunPanel:
                                                        max_width="100%", overflow="auto"))],
                      layout=W.Layout(flex_flow="row wrap", width="100%"))
         safety = W.HTML(f"<small>{html.escape(SAFETY_NOTE)}</small>")
-        self.widget = W.VBox([top, self.w_readouts, self.w_messages, self.w_budget,
+        self.widget = W.VBox([top, self.w_readouts, self.w_messages, self.w_reload, self.w_budget,
                               W.HTML("<b>Points</b> (untick or click a point to exclude it)"),
                               self.w_points, self.bench.widget, self.exporter.widget, safety])
 
@@ -345,6 +376,9 @@ class RunPanel:
         warnings = [] if self.analysis is None else list(self.analysis.warnings)
         parts += [f"⚠ {html.escape(w)}" for w in warnings]
         parts += [f"<i>{html.escape(m)}</i>" for m in self.messages]
+        if self.conflict:
+            parts.insert(0, f"<span style='color:#a00'><b>Session conflict:</b> "
+                            f"{html.escape(self.conflict)}</span>")
         self.w_messages.value = "<br>".join(parts)
 
     # -- export -------------------------------------------------------------------

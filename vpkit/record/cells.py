@@ -17,6 +17,7 @@ import numpy as np
 from ..errors import BadValueError, RunFileError, UnitError
 from ..units import check_unit
 from .fields import FIELDS, Entry
+from .safewrite import restore
 
 _READING_COLUMNS = ("bath_temperature", "reading", "pressure", "include", "reason")
 _READING_KINDS = {"bath_temperature": "temperature", "reading": "reading", "pressure": "pressure"}
@@ -68,7 +69,7 @@ def entry_from_cells(name, cells, source, row, decimal) -> Entry:
     if name == "liquid_density" and value.strip().lower() == "reference":
         return Entry("reference", "", None)
     if kind == "text":
-        return Entry(value, unit, None)
+        return Entry(restore(value), unit, None)
     if value == "":
         raise BadValueError(f"{name} has no value", file=source, row=row, column="value",
                            hint="enter the value or delete the row")
@@ -208,7 +209,7 @@ def build_parts(entries, header, rows, linenos, comments, source, decimal=".", h
             raise BadValueError(f"include flag {text!r} is not yes or no",
                                file=source, row=lineno, column="include",
                                hint="write yes or no (empty means yes)")
-        why.append(cell(cells, "reason"))
+        why.append(restore(cell(cells, "reason")))
     run_units = (units["bath_temperature"], units["reading"], units.get("pressure", ""))
     present = {name for name, _ in entries}
     for name, (_, required, _) in FIELDS.items():

@@ -106,7 +106,9 @@ class _TableReader:
                                hint="add a run_id column naming the run of each reading, or "
                                "give a single run file")
         self.cols = self._known_columns()
-        codes, self.run_ids = pd.factorize(t["run_id"].astype(str).to_numpy())
+        ids = t["run_id"].astype(str)
+        codes, self.run_ids = pd.factorize(ids.where(~ids.str.startswith("'"),
+                                                     ids.str[1:]).to_numpy())
         self.order = np.argsort(codes, kind="stable")
         self.R = len(self.run_ids)
         self.run = codes[self.order]
@@ -179,7 +181,9 @@ class _TableReader:
     def text(self, name, default) -> np.ndarray:
         if name not in self.cols:
             return np.full(len(self.t), default, dtype=object)
-        return self.t[self.cols[name]].fillna("").astype(str).str.strip().to_numpy()[self.order]
+        col = self.t[self.cols[name]].fillna("").astype(str).str.strip()
+        quoted = col.str.startswith("'")  # written inert by vpkit (safewrite.inert)
+        return col.where(~quoted, col.str[1:]).to_numpy()[self.order]
 
     def _per_run_column(self, name, kind, delta=False, allow=()) -> np.ndarray:
         col = self.cols.get(name)

@@ -31,7 +31,7 @@ from ..errors import RunFileError
 from .cells import build_parts, entry_from_cells, split_header
 from .fields import Entry
 from .run import Run
-from .safewrite import atomic_write_text
+from .safewrite import atomic_write_text, inert, locked, remove_stale_temporaries
 
 FORMAT_LINE = "# vpkit run file, format 1"
 
@@ -175,7 +175,9 @@ def _sniff_delimiter(lines: list[str]) -> str:
 
 
 def format_run(run: Run) -> str:
-    """The text of a run file for ``run`` (see :func:`write_run`)."""
+    """The text of a run file for ``run`` (see :func:`write_run`). Text a spreadsheet
+    would run as a formula (=, +, -, @ ...) is written with a leading quote, which
+    reading removes (:func:`vpkit.record.safewrite.inert`)."""
     out = io.StringIO()
     w = csv.writer(out, lineterminator="\n")
     out.write(FORMAT_LINE + "\n")
@@ -184,7 +186,7 @@ def format_run(run: Run) -> str:
     out.write("[run]\n")
     w.writerow(["quantity", "value", "unit", "uncertainty"])
     for name, e in run.entries:
-        value = repr(e.value) if isinstance(e.value, float) else e.value
+        value = repr(e.value) if isinstance(e.value, float) else inert(e.value)
         w.writerow([name, value, e.unit, "" if e.uncertainty is None else repr(e.uncertainty)])
     out.write("[readings]\n")
     tu, ru, pu = run.units
@@ -198,16 +200,18 @@ def format_run(run: Run) -> str:
         if pu:
             p = run.pressure[i]
             row.append("" if p is None else repr(p))
-        row += ["yes" if run.include[i] else "no", run.reason[i]]
+        row += ["yes" if run.include[i] else "no", inert(run.reason[i])]
         w.writerow(row)
     return out.getvalue()
 
 
 def write_run(run: Run, path) -> Path:
-    """Write ``run`` to ``path``; ``read_run(path) == run`` afterwards."""
+    """Write ``run`` to ``path`` (atomically, under the file's lock, keeping its permission
+    bits); ``read_run(path) == run`` afterwards."""
     path = Path(path)
-    path.write_text(format_run(run), encoding="utf-8")
-    return path
+    with locked(path):
+        remove_stale_temporaries(path, older_than=0.0)  # under the lock: all are stale
+        return atomic_write_text(path, format_run(run))
 
 
 def append_reading(path, temperature: float, reading: float, *, include: bool = True,
@@ -219,9 +223,30 @@ def append_reading(path, temperature: float, reading: float, *, include: bool = 
     before it replaces the file (a temporary file in the same folder, flushed to
     disk, then renamed over the original), so a crash leaves either the old file
     or the new one, never a half-written one; the run read back must equal the old
-    run plus the new reading, or nothing is written.
+    run plus the new reading, or nothing is written. The read and the write happen
+    under the file's lock, so a second writer appending at the same moment waits and
+    then appends after this reading: nothing accepted is lost.
     """
     path = Path(path)
+    with locked(path):  # a second writer waits, then appends to what this one wrote
+        remove_stale_temporaries(path, older_than=0.0)
+        return _append(path, temperature, reading, include, reason, decimal)
+
+
+def _codec_of(data: bytes) -> str:
+    """The encoding a run file was written in, as :func:`_decode` read it."""
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        return "utf-16"
+    if data.startswith(b"\xef\xbb\xbf"):
+        return "utf-8-sig"
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError:
+        return "latin-1"
+    return "utf-8"
+
+
+def _append(path: Path, temperature, reading, include, reason, decimal) -> Run:
     data = path.read_bytes()
     old = parse_run(data, source=str(path), decimal=decimal)
     text = _decode(data, str(path))
@@ -252,7 +277,5 @@ def append_reading(path, temperature: float, reading: float, *, include: bool = 
         raise RunFileError("the reading could not be appended without changing the file's "
                            "other content; nothing was written", file=str(path),
                            hint="add the line by hand")
-    codec = "utf-16" if data.startswith((b"\xff\xfe", b"\xfe\xff")) else (
-        "utf-8-sig" if data.startswith(b"\xef\xbb\xbf") else "utf-8")
-    atomic_write_text(path, new_text, encoding=codec)
+    atomic_write_text(path, new_text, encoding=_codec_of(data))
     return read_run(path, decimal=decimal)

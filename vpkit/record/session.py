@@ -27,7 +27,7 @@ from typing import Any
 from ..errors import InputError
 from .run import Run
 from .runfile import format_run
-from .safewrite import atomic_write_text
+from .safewrite import atomic_write_text, locked, remove_stale_temporaries
 
 SCHEMA = 1
 KIND = "vpkit-session"
@@ -125,13 +125,50 @@ def points_of(run: Run) -> tuple[tuple[float, float], ...]:
     return tuple((float(t), float(r)) for t, r in zip(run.bath_temperature, run.reading))
 
 
-def save_session(state: SessionState, path) -> Path:
-    """Write ``state`` to ``path`` atomically; returns the path."""
+class SessionConflict(SessionError):
+    """Another writer changed the session file since this writer read it.
+
+    ``aside`` is where this writer's state was kept instead; nothing was overwritten."""
+
+    def __init__(self, message: str, *, aside: Path | None = None, **kw) -> None:
+        super().__init__(message, **kw)
+        self.aside = aside
+
+
+def file_digest(path) -> str | None:
+    """SHA-256 of a file's bytes, or None when it does not exist."""
+    try:
+        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    except FileNotFoundError:
+        return None
+
+
+def save_session(state: SessionState, path, expected: str | None | bool = False) -> Path:
+    """Write ``state`` to ``path`` atomically, under the file's lock; returns the path.
+
+    ``expected`` is the digest (:func:`file_digest`) of the session file as this writer
+    last read or wrote it (None: it did not exist). When the file now differs, another
+    writer changed it: nothing is overwritten, this writer's state is kept aside as
+    ``NAME.mine-TIME.json`` and :class:`SessionConflict` says so. ``expected=False``
+    (the default) skips the check.
+    """
     path = Path(path)
     stamped = SessionState(state.run_sha256, state.include, state.reasons, state.choices,
                            _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
                            state.points)
-    return atomic_write_text(path, stamped.to_json())
+    with locked(path):
+        remove_stale_temporaries(path, older_than=0.0)  # under the lock: all are stale
+        if expected is not False and file_digest(path) != expected:
+            aside = path.with_name(f"{path.stem}.mine-{time.strftime('%Y%m%d-%H%M%S')}"
+                                   f"-{time.time_ns() % 1000000:06d}.json")
+            atomic_write_text(aside, stamped.to_json())
+            raise SessionConflict(
+                "the session file was changed by another writer (another notebook or panel "
+                f"on this run) since it was read; your exclusions and choices were kept as "
+                f"{aside.name}, and the file was not overwritten", file=str(path),
+                aside=aside, hint="reload the session to see the other changes, then "
+                "re-apply yours")
+        return atomic_write_text(path, stamped.to_json())
 
 
 def load_session(path, run: Run | None = None) -> SessionState:

@@ -68,3 +68,11 @@ def test_markdown_shows_comparison_signs_not_html_entities():
                       warn=False)
     s = a.summary()
     assert "≤ 0" in s and "&lt;" not in s
+
+
+def test_free_text_in_markdown_carries_no_link_or_markup():
+    from vpkit.output.run_summary import md_text
+
+    out = md_text("[x](javascript:alert(1)) <img src=x onerror=y> *bold* a|b")
+    assert "](" not in out.replace("\\](", "") and "<img" not in out
+    assert out.startswith("\\[x\\]") and "\\*bold\\*" in out and "a\\|b" in out
