@@ -34,7 +34,7 @@ from .physics import liquids, reference_curve
 from .planning import check_reading, plan
 from .record import Entry, Run, RunStack, format_run, parse_run, read_run, stack_runs, write_run
 
-__version__ = "0.1.0"
+__version__ = "0.2.0"
 
 
 def explore(run_or_path, **kwargs):

@@ -15,6 +15,7 @@ import warnings
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import pytest
 
 import vpkit
@@ -125,3 +126,60 @@ def test_mutated_long_tables(capfd):
 
         _check(one, failures, k)
     _verdict(f"{N_TABLES} mutated long tables", failures, absurd, capfd)
+
+
+def _base_table():
+    rng = np.random.default_rng(1)
+    return runs_to_table({f"r{k}": make_run(["ethanol", "water", "toluene"][k % 3],
+                                            (25, 32, 39, 46, 53, 60), noise=NOISE, rng=rng)
+                          for k in range(3)})
+
+
+_BASE = None
+CELL = ["", "nan", "-1", "0", "1e400", "-273.16", "inf", "x", "1,5", "yes", "no", "'=1+1",
+        "r0", "r1", "-", "None", " ", "degC", "mL", "1e-300", "-5", "3.7e5", "@", "ethanol",
+        "unknown liquid", "reference", "closed end", "open end", "'", "\t"]
+
+
+@pytest.mark.long
+def test_mutated_long_tables_hypothesis():
+    """Hypothesis drives the long-table path: any cell, the run_id and header cells
+    included, replaced by a hostile token, or rows dropped or duplicated. 10,000 examples
+    under CI (CI=true), 300 otherwise; only vpkit's own errors may come out."""
+    import os
+
+    from hypothesis import HealthCheck, given, settings
+    from hypothesis import strategies as st
+
+    global _BASE
+    _BASE = _BASE if _BASE is not None else _base_table()
+    base = _BASE
+    n = 10_000 if os.environ.get("CI") else 300
+    edit = st.tuples(st.integers(0, len(base)), st.integers(0, len(base.columns) - 1),
+                     st.sampled_from(CELL))
+
+    @settings(max_examples=n, deadline=None, database=None, derandomize=True,
+              suppress_health_check=list(HealthCheck))
+    @given(st.lists(edit, min_size=1, max_size=4),
+           st.lists(st.integers(0, len(base) - 1), max_size=3), st.booleans())
+    def prop(edits, drop, dup):
+        t = base.copy().astype(object)
+        cols = list(t.columns)
+        for i, j, token in edits:
+            if i == len(t):  # the header row
+                cols[j] = token or cols[j]
+            else:
+                t.iat[i, j] = token
+        t.columns = cols
+        t = t.drop(index=[t.index[k] for k in set(drop) if k < len(t)])
+        if dup and len(t):
+            t = pd.concat([t, t.iloc[:1]], ignore_index=True)
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("error")
+                warnings.simplefilter("ignore", vpkit.VpkitWarning)
+                analyze_table(t.reset_index(drop=True))
+        except VpkitError:
+            pass
+
+    prop()

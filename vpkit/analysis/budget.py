@@ -86,6 +86,12 @@ def _at_fit(res) -> np.ndarray:
 
 
 def sensitivities(res) -> dict[str, np.ndarray]:
+    """See :func:`_sensitivities` (non-finite values come out as NaN, not warnings)."""
+    with np.errstate(all="ignore"):
+        return _sensitivities(res)
+
+
+def _sensitivities(res) -> dict[str, np.ndarray]:
     """s_qk (R, m) of ΔH_vap at T_m [J/mol], T_b at 101.325 kPa [K] and the true ΔvapH
     [J/mol] to every input of ``res`` (a StackResult), per unit of the input (SI).
 

@@ -25,8 +25,9 @@ import pandas as pd
 
 from .. import display as D
 from ..record.assemble import stack_runs
-from ..record.longtable import LoadResult, read_runs, stack_table, table_to_runs
+from ..record.longtable import stack_table, table_to_runs
 from ..record.run import Run
+from ..record.sources import LoadResult, read_runs
 from ..record.stack import RunStack
 from .choices import Choices
 from .engine import StackResult, analyze_stack

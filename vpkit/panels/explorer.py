@@ -96,6 +96,7 @@ class RunPanel:
         self.messages: list[str] = []
         self.conflict: str | None = None
         self._session_digest: str | None = None
+        self._saved: tuple | None = None
         self._restore()
         self.analysis: Analysis | None = None
         self.previous_enthalpy: float | None = None
@@ -128,9 +129,16 @@ class RunPanel:
             self.choices.update(restored.choices)
             self.messages.append(restored.message)
         self._session_digest = file_digest(self.session_file)
+        self._saved = self._state_key() if self._session_digest is not None else None
+
+    def _state_key(self) -> tuple:
+        return (tuple(self.include), tuple(self.reasons), tuple(sorted(
+            (k, repr(v)) for k, v in self.choices.items())))
 
     def _save(self) -> None:
-        if not self.autosave or self.conflict:
+        """Write the session when the state differs from what the file holds (opening a
+        run writes nothing, so two explorers can open it side by side)."""
+        if not self.autosave or self.conflict or self._state_key() == self._saved:
             return
         state = SessionState(run_fingerprint(self.run), tuple(self.include),
                              tuple(self.reasons), dict(self.choices),
@@ -144,6 +152,7 @@ class RunPanel:
                 self._show_messages()
             return
         self._session_digest = file_digest(self.session_file)
+        self._saved = self._state_key()
 
     def reload_session(self) -> None:
         """Take the session file as another writer left it (after a conflict) and show it;

@@ -14,9 +14,10 @@ This stage imports nothing above :mod:`vpkit.errors`, :mod:`vpkit.units`,
 
 from .assemble import run_in_si, stack_runs
 from .fields import DEFAULT_UNCERTAINTY, FIELDS, Entry
-from .longtable import LoadResult, read_runs, runs_to_table, stack_table, table_to_runs
+from .longtable import runs_to_table, stack_table, table_to_runs
 from .run import Run
 from .runfile import append_reading, format_run, parse_run, read_run, write_run
+from .sources import LoadResult, read_runs
 from .stack import RunSI, RunStack
 
 __all__ = ["DEFAULT_UNCERTAINTY", "FIELDS", "Entry", "LoadResult", "Run", "RunSI", "RunStack",

@@ -19,18 +19,15 @@ run) and a relative density uncertainty in ``u_rel(liquid_density)``.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from ..errors import BadValueError, InputError, RunFileError, UnitError, VpkitError
+from ..errors import BadValueError, InputError, RunFileError, UnitError
 from ..units import check_unit, reading_kind, to_si
 from .assemble import assemble, parse_direction, stack_runs
 from .fields import FIELDS, Entry
 from .run import Run
-from .runfile import read_run
 from .stack import QUANTITY, U_KEYS, Columns, RunStack
 
 READING_NAMES = ("bath_temperature", "reading", "pressure", "include", "reason")
@@ -329,110 +326,3 @@ def table_to_runs(table: pd.DataFrame, run_ids=None) -> dict[str, Run]:
             df = df.drop(columns=[cols["pressure"]])
         out[str(run_id)] = Run.from_frame(df.reset_index(drop=True), **meta)
     return out
-
-
-# ---------------------------------------------------------------------------
-# loading a folder or a table file
-# ---------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class LoadResult:
-    """What a load gave: the stack, what failed and why, and notes.
-
-    Attributes
-    ----------
-    stack : RunStack
-    failed : tuple of (str, str)
-        File or run id, and the error (naming file, row and column).
-    runs : mapping run_id -> Run
-        The run records (folders of run files; rebuilt from the table otherwise).
-    notes : tuple of str
-    paths : mapping run_id -> Path
-    sessions : mapping run_id -> str
-        Which session file was applied to which run.
-    """
-
-    stack: RunStack
-    failed: tuple[tuple[str, str], ...] = ()
-    runs: Mapping[str, Run] = field(default_factory=dict)
-    notes: tuple[str, ...] = ()
-    paths: Mapping[str, Path] = field(default_factory=dict)
-    sessions: Mapping[str, str] = field(default_factory=dict)
-
-    @property
-    def run_ids(self) -> list[str]:
-        return list(self.stack.run_ids)
-
-    @property
-    def table(self) -> pd.DataFrame:
-        """The long table (SI) of the runs that loaded."""
-        return stack_to_table(self.stack)
-
-
-def _hidden(rel: Path) -> bool:
-    """Files a folder scan skips: hidden parts (.ipynb_checkpoints, .git) and notebook
-    checkpoint copies (*-checkpoint.csv)."""
-    return any(part.startswith(".") for part in rel.parts) or rel.name.endswith(
-        "-checkpoint.csv")
-
-
-def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadResult:
-    """Read a folder of run files, a long table (CSV with ``run_id``), or one run file.
-
-    A bad run is reported in ``failed`` (its file or run id, and the error
-    naming row and column); the others still load. Nothing is skipped silently.
-    With ``sessions``, a run file's session (exclusions made in the explorer) is
-    applied and named in ``sessions``; a session that does not match its run is
-    reported in ``notes`` and the run is used as its file says.
-    """
-    from .session import SessionError, load_session, session_path
-
-    source = Path(source)
-    runs: dict[str, Run] = {}
-    paths: dict[str, Path] = {}
-    applied: dict[str, str] = {}
-    failed, notes = [], []
-    if source.is_dir() or _is_run_file(source):
-        files = sorted(f for f in source.glob(pattern) if not _hidden(f.relative_to(source))
-                       ) if source.is_dir() else [source]
-        for path in files:
-            try:
-                run = read_run(path)
-            except VpkitError as exc:
-                failed.append((str(path), str(exc)))
-                continue
-            sp = session_path(path)
-            if sessions and sp.exists():
-                try:
-                    run = load_session(sp, run).apply(run)
-                    applied[path.stem] = sp.name
-                except SessionError as exc:
-                    notes.append(f"{path.name}: session not applied: {exc}")
-            runs[path.stem] = run
-            paths[path.stem] = path
-        stack, bad = stack_runs(runs, strict=False)
-        for rid, exc in bad:
-            failed.append((str(paths[rid]), str(exc)))
-            runs.pop(rid)
-        return LoadResult(stack, tuple(failed), runs, tuple(notes), paths, applied)
-    try:
-        table = pd.read_csv(source, comment="#", dtype={"run_id": str, "reason": str,
-                                                        "include": str},
-                            keep_default_na=True, skipinitialspace=True)
-    except (OSError, ValueError) as exc:
-        raise RunFileError(f"cannot read the table: {exc}", file=str(source)) from exc
-    table.attrs["source"] = str(source)
-    stack, bad = stack_table(table)
-    ok = set(stack.run_ids)
-    runs = table_to_runs(table, ok) if len(ok) <= 2000 else {}
-    return LoadResult(stack, tuple((rid, str(exc)) for rid, exc in bad), runs)
-
-
-def _is_run_file(path: Path) -> bool:
-    """A single run file (a '[run]' section) rather than a long table."""
-    try:
-        head = path.read_bytes()[:4096].decode("utf-8", "replace").lower()
-    except OSError:
-        return False
-    return "[run]" in head

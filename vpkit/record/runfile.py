@@ -27,11 +27,12 @@ import csv
 import io
 from pathlib import Path
 
-from ..errors import RunFileError
+from ..errors import InputError, RunFileError
 from .cells import build_parts, entry_from_cells, split_header
 from .fields import Entry
 from .run import Run
 from .safewrite import atomic_write_text, inert, locked, remove_stale_temporaries
+from .workbook import is_workbook, locate, read_sheets
 
 FORMAT_LINE = "# vpkit run file, format 1"
 
@@ -43,16 +44,19 @@ FORMAT_LINE = "# vpkit run file, format 1"
 # ---------------------------------------------------------------------------
 
 
-def read_run(path, *, decimal: str = ".") -> Run:
-    """Read one run file.
+def read_run(path, *, decimal: str = ".", sheet: str | int | None = None) -> Run:
+    """Read one run file: CSV text, or a sheet of a workbook (.xlsx, .xlsm, .ods).
 
     Parameters
     ----------
     path : str or Path
-        The run file (UTF-8, with or without BOM; Latin-1 is accepted too).
+        The run file (UTF-8, with or without BOM; Latin-1 is accepted too), or a
+        workbook with one run per sheet (:mod:`vpkit.record.workbook`).
     decimal : {".", ","}
         Decimal mark of the numbers. With ``","`` the columns must be
         separated by semicolons or tabs.
+    sheet : str or int, optional
+        The workbook sheet to read (its name or 0-based position; default the first).
 
     Returns
     -------
@@ -61,15 +65,39 @@ def read_run(path, *, decimal: str = ".") -> Run:
     Raises
     ------
     RunFileError
-        The file cannot be read, or names the file, row and column of what is
-        wrong and how to fix it.
+        The file cannot be read, or names the file, row and column (in a workbook,
+        the sheet and cell) of what is wrong and how to fix it.
     """
     path = Path(path)
+    if is_workbook(path):
+        return run_from_workbook(path, sheet, decimal=decimal)
     try:
         raw = path.read_bytes()
     except OSError as exc:
         raise RunFileError(f"cannot open the run file: {exc.strerror}", file=str(path)) from exc
     return parse_run(raw, source=str(path), decimal=decimal)
+
+
+def run_from_workbook(path, sheet: str | int | None = None, *, decimal: str = ".",
+                      sheets=None) -> Run:
+    """The run in one sheet of a workbook (the first unless ``sheet`` names another);
+    errors name the sheet and cell."""
+    sheets = read_sheets(path) if sheets is None else sheets
+    if not sheets:
+        raise RunFileError("the workbook has no sheets", file=str(path))
+    if sheet is None:
+        chosen = sheets[0]
+    elif isinstance(sheet, int):
+        chosen = sheets[sheet] if -len(sheets) <= sheet < len(sheets) else None
+    else:
+        chosen = next((s for s in sheets if s.name == sheet), None)
+    if chosen is None:
+        raise RunFileError(f"no sheet {sheet!r} in the workbook", file=str(path),
+                           hint="sheets: " + ", ".join(s.name for s in sheets))
+    try:
+        return parse_run(chosen.text(), source=chosen.label, decimal=decimal)
+    except InputError as exc:
+        raise locate(exc, chosen) from exc
 
 
 def parse_run(data: bytes | str, *, source: str = "<text>", decimal: str = ".") -> Run:
@@ -228,6 +256,10 @@ def append_reading(path, temperature: float, reading: float, *, include: bool = 
     then appends after this reading: nothing accepted is lost.
     """
     path = Path(path)
+    if is_workbook(path):
+        raise RunFileError("a reading cannot be appended to a workbook from here",
+                           file=str(path), hint="add the row in the workbook, or keep the "
+                           "run as a CSV run file")
     with locked(path):  # a second writer waits, then appends to what this one wrote
         remove_stale_temporaries(path, older_than=0.0)
         return _append(path, temperature, reading, include, reason, decimal)

@@ -16,7 +16,8 @@ import vpkit
 from tests.conftest import make_run
 from vpkit.analysis.many_runs import analyze_many, analyze_runs, analyze_table
 from vpkit.physics.simulate import NOISE
-from vpkit.record.longtable import read_runs, runs_to_table, stack_table
+from vpkit.record.longtable import runs_to_table, stack_table
+from vpkit.record.sources import read_runs
 
 LIQUIDS = ["ethanol", "water", "toluene", "2-propanol", "acetone", "heptane"]
 NUMERIC = ["ΔH_vap [kJ/mol]", "u(ΔH_vap) [kJ/mol]", "T_b at run pressure [degC]",

@@ -49,8 +49,8 @@ def test_a_bad_cell_fails_only_its_run_and_names_the_row():
 
 def test_folder_scan_skips_notebook_checkpoints(tmp_path):
     """A notebook's .ipynb_checkpoints copies are not runs (common practice, no source)."""
-    from vpkit.record.longtable import read_runs
     from vpkit.record.runfile import write_run
+    from vpkit.record.sources import read_runs
 
     write_run(make_run("ethanol"), tmp_path / "a.csv")
     (tmp_path / ".ipynb_checkpoints").mkdir()
