@@ -5,7 +5,7 @@ VENV ?= .venv
 PY := $(VENV)/bin/python
 OUT ?= out/demo
 
-.PHONY: demo test lint bench clean
+.PHONY: demo test lint bench notebooks clean
 
 $(VENV)/.created:
 	$(PYTHON) -m venv $(VENV)
@@ -28,6 +28,12 @@ demo: $(VENV)/.demo
 	@echo "the three demo runs' report in $(OUT)/demo-report/report.html;"
 	@echo "an invented 14-group ethanol section, with its consensus, in"
 	@echo "$(OUT)/section-report/report.html (and report.md, summary.csv, consensus.csv)"
+
+# JupyterLab on the notebooks/ folder (stop it with Ctrl-C). Opens a browser where one
+# exists; otherwise it prints the address to open.
+notebooks: $(VENV)/.created pyproject.toml
+	$(PY) -m pip install --quiet -e '.[lab]'
+	$(VENV)/bin/jupyter lab notebooks/
 
 test: $(VENV)/.test
 	$(PY) -m ruff check vpkit tests benchmarks data

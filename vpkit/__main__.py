@@ -12,6 +12,7 @@ import argparse
 import sys
 from pathlib import Path
 
+from . import display as D
 from .errors import VpkitError
 
 
@@ -57,14 +58,20 @@ def main(argv: list[str] | None = None) -> int:
                                      description="Trapped-bubble vapor-pressure analysis")
     sub = parser.add_subparsers(dest="command", required=True)
     p = sub.add_parser("analyze", help="analyse run files and write figure, tables, summary")
-    p.add_argument("runs", nargs="+", type=Path, help="run file(s)")
-    p.add_argument("--out", type=Path, default=Path("vpkit-out"), help="output folder")
-    p.add_argument("--width-mm", type=float, default=85.0, help="figure width (85 or 175)")
+    p.add_argument("runs", nargs="+", type=Path,
+                   help="run file(s): CSV, or a workbook (.xlsx, .ods) with the run on its "
+                   "first sheet; each run's outputs are named after its file")
+    p.add_argument("--out", type=Path, default=Path("vpkit-out"),
+                   help="output folder, created if missing (default: ./%(default)s)")
+    p.add_argument("--width-mm", type=float, default=85.0,
+                   help="figure width [mm]: 85 for one journal column, 175 for two "
+                   "(default: %(default)s)")
     _options(p)
     q = sub.add_parser("report", help="summary, flags and a self-contained report for many runs")
     q.add_argument("source", type=Path, help="a folder of run files, a long-table CSV, or a "
                    "single run file")
-    q.add_argument("--out", type=Path, default=Path("vpkit-report"), help="output folder")
+    q.add_argument("--out", type=Path, default=Path("vpkit-report"),
+                   help="output folder, created if missing (default: ./%(default)s)")
     _options(q)
     _plan_options(sub.add_parser(
         "plan", help="predict what a planned run will give, and search for a better plan"))
@@ -81,26 +88,36 @@ def _floats(text: str) -> list[float]:
 
 
 def _plan_options(p) -> None:
-    p.add_argument("liquid", help="a bundled liquid (see vpkit.physics.liquids.liquids())")
+    p.add_argument("liquid", nargs="?",
+                   help="a liquid with a bundled published curve (--list-liquids shows them)")
+    p.add_argument("--list-liquids", action="store_true",
+                   help="list the liquids a run can be planned for, with the range of their "
+                   "published curve, and stop")
     p.add_argument("--bubble", type=float, default=2.0, help="gas volume at the room "
-                   "reading [mL] (default 2)")
+                   "reading [mL] (default: %(default)s)")
     p.add_argument("--from", dest="t_from", type=float, default=25.0,
-                   help="first bath temperature [degC]")
+                   help="first bath temperature [°C] (default: %(default)s)")
     p.add_argument("--to", dest="t_to", type=float, default=60.0,
-                   help="last bath temperature [degC]")
-    p.add_argument("--points", type=int, default=8, help="number of bath temperatures")
-    p.add_argument("--barometer", type=float, default=100.0, help="expected pressure [kPa]")
-    p.add_argument("--room", type=float, default=21.0, help="room temperature [degC]")
+                   help="last bath temperature [°C] (default: %(default)s)")
+    p.add_argument("--points", type=int, default=8, help="number of bath temperatures, "
+                   "evenly spaced from --from to --to (default: %(default)s)")
+    p.add_argument("--barometer", type=float, default=100.0,
+                   help="expected barometric pressure [kPa] (default: %(default)s)")
+    p.add_argument("--room", type=float, default=21.0,
+                   help="room temperature [°C] (default: %(default)s)")
     p.add_argument("--reading-u", type=float, default=0.005,
-                   help="standard uncertainty of one graduation reading [mL]")
+                   help="standard uncertainty of one graduation reading [mL] "
+                   "(default: %(default)s)")
     p.add_argument("--thermometer-u", type=float, default=0.2,
-                   help="standard uncertainty of the bath thermometer [K]")
-    p.add_argument("--capacity", type=float, default=None, help="tube capacity [mL]")
+                   help="standard uncertainty of the bath thermometer [K] "
+                   "(default: %(default)s)")
+    p.add_argument("--capacity", type=float, default=None,
+                   help="tube capacity [mL] (default: not checked)")
     p.add_argument("--search", action="store_true", help="look for a better plan")
     p.add_argument("--bubbles", type=_floats, default=None,
                    help="bubble sizes available for the search [mL], e.g. 1,2,3")
     p.add_argument("--bath", type=_floats, default=None,
-                   help="bath range for the search [degC], e.g. 20,90")
+                   help="bath range for the search [°C], e.g. 20,90")
     p.add_argument("--max-points", type=int, default=None,
                    help="most bath temperatures the search may use")
 
@@ -108,11 +125,16 @@ def _plan_options(p) -> None:
 def _plan(args) -> int:
     import numpy as np
 
-    from . import display as D
     from .constants import T_ZERO_C
     from .output.run_summary import SAFETY_NOTE
     from .planning.planner import Plan, predict, search
 
+    if args.list_liquids:
+        return _list_liquids()
+    if args.liquid is None:
+        print("error: name the liquid to plan (python -m vpkit plan --list-liquids shows "
+              "them)", file=sys.stderr)
+        return 2
     try:
         plan = Plan(args.liquid, args.bubble * 1e-6,
                     tuple(np.linspace(args.t_from, args.t_to, args.points) + T_ZERO_C),
@@ -143,36 +165,58 @@ def _plan(args) -> int:
     return 0
 
 
+def _list_liquids() -> int:
+    from .constants import T_ZERO_C
+    from .physics.liquids import antoine_table, melting_point
+
+    print("liquids with a bundled published curve (range of the curve; melting point):")
+    for _, row in antoine_table().iterrows():
+        lo, hi = row["T_min"] - T_ZERO_C, row["T_max"] - T_ZERO_C
+        print(f"  {row['liquid']:<14} {D.number(lo, 'degC')} to {D.number(hi, 'degC')}; "
+              f"melts at {D.number(melting_point(row['liquid']) - T_ZERO_C, 'degC')}")
+    return 0
+
+
 def _print_prediction(title, p, D) -> None:
     pl = p.plan
     t = p.points["t [degC]"]
-    print(f"{title}: {pl.liquid}, {D.number(pl.bubble_volume * 1e6, 'mL', 3)} bubble, "
-          f"{len(t)} points from {D.number(t.min(), 'degC', 3)} to "
-          f"{D.number(t.max(), 'degC', 3)}")
+    print(f"{title}: {pl.liquid}, {D.number(pl.bubble_volume * 1e6, 'mL')} bubble, "
+          f"{len(t)} points from {D.number(t.min(), 'degC')} to "
+          f"{D.number(t.max(), 'degC')}")
     print("  t [degC]  expected reading [mL]  gas volume [mL]  p_vap [kPa]  amplification")
     for _, row in p.points.iterrows():
         print(f"  {row['t [degC]']:8.1f}  {row['expected reading [mL]']:21.3f}  "
               f"{row['gas volume [mL]']:15.3f}  {row['p_vap [kPa]']:11.3f}  "
               f"{row['amplification P_total/p_vap']:13.1f}")
-    print(f"  expected u(ΔH_vap) = {D.number(p.u_enthalpy / 1e3, 'kJ/mol', 2)}; "
-          f"u(T_b at 101.325 kPa) = {D.number(p.u_T_b, 'K', 2)}; extrapolation bias of "
+    print(f"  expected u(ΔH_vap) = {D.uncertainty(p.u_enthalpy / 1e3, 'kJ/mol')}; "
+          f"u(T_b at 101.325 kPa) = {D.uncertainty(p.u_T_b, 'K')}; extrapolation bias of "
           f"T_b = {D.signed(p.bias_T_b, 'K', 2)}")
     b = p.budget().drop(index="total").sort_values(("ΔH_vap", "share"), ascending=False)
-    top = [f"{g} {100 * row[('ΔH_vap', 'share')]:.0f} %" for g, row in b.head(3).iterrows()]
+    top = [f"{g} {D.uncertainty(100 * row[('ΔH_vap', 'share')], '%')}"
+           for g, row in b.head(3).iterrows()]
     print(f"  largest shares of u(ΔH_vap)²: {', '.join(top)}")
     for w in p.warnings:
         print(f"  warning: {w}")
 
 
 def _analyze(args) -> int:
-    from . import display as D
     from .analysis.one_run import analyze
     from .output.run_summary import SAFETY_NOTE, write_outputs
     from .record.runfile import read_run
+    from .record.safewrite import file_names, output_folder
     from .record.session import SessionError, load_session, session_path
 
+    try:
+        output_folder(args.out)  # a bad --out is said once, before any run is analysed
+    except VpkitError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
     status = 0
-    for path in args.runs:
+    stems = file_names(Path(p).stem for p in args.runs)
+    for path, stem in zip(args.runs, stems):
+        if stem != Path(path).stem:
+            print(f"note: {path}: another run file has the same name; its outputs are "
+                  f"named {stem}")
         try:
             run = read_run(path)
             note = "none (run file as written)"
@@ -186,7 +230,7 @@ def _analyze(args) -> int:
             elif sp.exists():
                 note = f"{sp.name} ignored (--ignore-session)"
             a = analyze(run, **_choices(args), warn=False)  # warnings printed below
-            paths = write_outputs(a, args.out, width_mm=args.width_mm)
+            paths = write_outputs(a, args.out, width_mm=args.width_mm, stem=stem)
         except VpkitError as exc:
             print(f"error: {exc}", file=sys.stderr)
             status = 2
@@ -225,10 +269,12 @@ def _report(args) -> int:
     summary = res["summary"]
     analysed = summary["status"].fillna("") == ""
     flagged = summary[analysed & (summary["flags"] != "")]
-    print(f"{int(analysed.sum())} run(s) analysed, {len(flagged)} flagged, "
+    print(f"{D.count(int(analysed.sum()), 'run')} analysed, {len(flagged)} flagged, "
           f"{int((~analysed).sum())} not analysed (could not be read or fitted)")
     if many.sessions:
         print(f"  sessions applied: {', '.join(sorted(many.sessions.values()))}")
+    for note in many.notes:
+        print(f"  note: {note}")
     refs = sorted(set(x for x in summary["reference"].dropna() if x))
     print(f"  reference equations: {'; '.join(refs) if refs else 'none'}")
     for _, r in flagged.iterrows():

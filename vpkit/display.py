@@ -2,9 +2,12 @@
 
 Rule (stated once, used by the panels, the command line and the reports): a
 standard uncertainty is shown with two significant digits and its value is
-rounded to the same decimal place [1]; a number without an uncertainty is
-shown with four significant digits. Tables written to CSV keep full
-precision; only text is rounded.
+rounded to the same decimal place [1] (:func:`value_u`); an uncertainty, or a
+share of an uncertainty budget, shown alone has two significant digits too
+(:func:`uncertainty`); any other number is shown with four significant digits
+(:func:`number`); a signed difference has fixed decimals, one for % and for
+units of u (z and ζ scores), two for K and kJ/mol, four for a residual in ln p
+(:func:`signed`). Tables written to CSV keep full precision; only text is rounded.
 
 References
 ----------
@@ -52,6 +55,11 @@ def number(value: float, unit: str = "", digits: int = 4) -> str:
     decimals = 0 if v == 0 else digits - 1 - int(math.floor(math.log10(abs(v))))
     text = f"{v:.{max(decimals, 0) if v != 0 else digits - 1}f}"
     return f"{text} {LABELS.get(unit, unit)}".rstrip()
+
+
+def uncertainty(u: float, unit: str = "") -> str:
+    """An uncertainty (or a budget share) alone: two significant digits ('0.10 K')."""
+    return number(u, unit, 2)
 
 
 def signed(value: float, unit: str = "", decimals: int = 1) -> str:

@@ -98,6 +98,10 @@ class FitError(VpkitError, ValueError):
         return (_rebuild_fit, (self.message, self.n_points, self.n_params, self.run_id))
 
 
+class OutputError(VpkitError):
+    """An output cannot be written where asked (the folder is a file, not writable)."""
+
+
 def _rebuild_fit(message, n_points, n_params, run_id=None):
     return FitError(message, n_points=n_points, n_params=n_params, run_id=run_id)
 

@@ -236,7 +236,7 @@ def test_editing_the_run_file_keeps_matching_exclusions(run_file):
     q = explore(run_file, canvas="static")
     assert q.include[1] is False and q.reasons[1] == "thermometer not settled"
     assert q.include[6] is True
-    assert any("re-applied" in m and "1 saved point(s) (6)" in m for m in q.messages)
+    assert any("re-applied" in m and "1 saved point (6)" in m for m in q.messages)
     assert list(run_file.parent.glob("*.refused-*"))
 
 

@@ -32,6 +32,14 @@ def test_numbers_without_u_keep_four_significant_digits():
     assert D.count(3, "run") == "3 runs" and D.count(0, "point") == "0 points"
 
 
+def test_an_uncertainty_alone_keeps_two_significant_digits():
+    """GUM 7.2.6 (JCGM 100:2008): two significant digits for an uncertainty; a budget cell
+    of 0.1 kJ/mol reads 0.10, like the same u beside its value."""
+    assert D.uncertainty(0.1, "kJ/mol") == "0.10 kJ/mol"
+    assert D.uncertainty(0.0924, "K") == "0.092 K"
+    assert D.value_u(-0.9249, 0.0924, "K").endswith("± 0.092 K")
+
+
 def test_units_converted_at_the_edge():
     assert D.quantity(373.124, 0.012, "degC", "temperature") == "99.974 ± 0.012 °C"
     assert D.quantity(101325.0, None, "kPa", "pressure") == "101.3 kPa"

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import display as D
 from ..arrays import psum
 from ..constants import P_STANDARD, R
 from ..physics.curves import CurveSet, ReferenceCurve
@@ -87,8 +88,8 @@ class ReferenceComparison:
 
 
 def outside_range_text(curve: ReferenceCurve, count: int) -> str:
-    return (f"{count} point(s) outside the {curve.label} validity range "
-            f"{curve.T_min - 273.15:.1f} to {curve.T_max - 273.15:.1f} degC: the reference is "
+    return (f"{D.count(count, 'point')} outside the {curve.label} validity range "
+            f"{curve.T_min - 273.15:.1f} to {curve.T_max - 273.15:.1f} °C: the reference is "
             "extrapolated there")
 
 

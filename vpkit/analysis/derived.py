@@ -36,6 +36,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import display as D
 from ..arrays import quad
 from ..constants import P_STANDARD, R
 from ..physics.liquids import has_vaporization_enthalpy, per_liquid, vaporization_enthalpy
@@ -179,21 +180,30 @@ def boiling_point_bias(fit, curves, P, on_curve) -> dict:
 
 
 def trouton_verdict(v: float, u: float) -> str:
-    """Compare ΔS_vap = v ± u [J/(mol K)] at the normal boiling point with Trouton's rule."""
+    """Compare ΔS_vap = v ± u [J/(mol K)] at the normal boiling point with Trouton's rule.
+
+    The rule: a band is consistent with the value when it lies within 2u of it (the
+    value's 95 % interval reaches the band); the text says whether the value itself is
+    inside, or consistent only within its uncertainty."""
     if not (np.isfinite(v) and np.isfinite(u)):
         return ""
     lo, hi = TROUTON_BAND
     hlo, hhi = TROUTON_HBOND_BAND
     normal = lo - 2 * u <= v <= hi + 2 * u
     hbond = hlo - 2 * u <= v <= hhi + 2 * u
-    head = f"ΔS_vap = {v:.1f} ± {u:.1f} J/(mol K) at T_b: "
+    head = f"ΔS_vap = {D.value_u(v, u, 'J/(mol K)')} at T_b: "
+
+    def how(a, b):
+        return "within" if a <= v <= b else "consistent, within 2u, with"
     if normal and hbond:
-        return head + (f"too uncertain to tell Trouton's rule ({lo:g}–{hi:g}) from the "
-                       f"hydrogen-bonded range ({hlo:g}–{hhi:g})")
+        return head + (f"too uncertain to tell Trouton's rule ({lo:g}–{hi:g} J/(mol K)) from "
+                       f"the hydrogen-bonded range ({hlo:g}–{hhi:g}); a band counts when the "
+                       "value lies within 2u of it")
     if normal:
-        return head + f"within Trouton's rule ({lo:g}–{hi:g}), as for a liquid without " \
-            "hydrogen bonding"
+        return head + (f"{how(lo, hi)} Trouton's rule ({lo:g}–{hi:g} J/(mol K)), as for a "
+                       "liquid without hydrogen bonding")
     if hbond:
-        return head + f"above Trouton's rule, as for hydrogen-bonded liquids ({hlo:g}–{hhi:g})"
-    return head + (f"outside Trouton's rule ({lo:g}–{hi:g}) and the hydrogen-bonded range "
-                   f"({hlo:g}–{hhi:g}); check the data")
+        return head + (f"above Trouton's rule and {how(hlo, hhi)} the hydrogen-bonded range "
+                       f"({hlo:g}–{hhi:g} J/(mol K)), as for water and alcohols")
+    return head + (f"more than 2u outside Trouton's rule ({lo:g}–{hi:g} J/(mol K)) and the "
+                   f"hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")

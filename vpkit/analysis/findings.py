@@ -68,11 +68,13 @@ class Finding:
 
 
 def _t(T) -> str:
-    return f"{T - T_ZERO_C:.2f} degC"
+    return f"{T - T_ZERO_C:.2f} °C"
 
 
 def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
-    """Every finding of every run of ``res`` (a StackResult), in a stable order."""
+    """Every finding of every run of ``res`` (a StackResult), in a stable order: what was
+    entered (plausibility) first, then the data, the points, the reference, the fit and
+    the method, so a root cause comes before its symptoms."""
     out: list[list[Finding]] = [[] for _ in range(res.R)]
 
     def add(hits, flag, category, text):
@@ -80,11 +82,11 @@ def run_checks(res) -> tuple[tuple[Finding, ...], ...]:
             out[int(r)].append(Finding(flag, category, text(int(r))))
 
     with np.errstate(invalid="ignore", divide="ignore"):
+        _plausibility_checks(res, add)  # a slip in what was entered first: the root cause
         span = _data_checks(res, add, out)
         _point_checks(res, out)
         _reference_checks(res, add, out, span)
         _fit_checks(res, add)
-        _plausibility_checks(res, add)
         _method_checks(res, add)
     return tuple(tuple(x) for x in out)
 
@@ -116,15 +118,16 @@ def _method_checks(res, add) -> None:
     frozen = res.stack.mask & (T < T_melt[:, None])
     i_cold = np.argmin(np.where(frozen, T, np.inf), axis=1)
     add(frozen.any(axis=1), "below melting point", ImpossiblePointWarning, lambda r: (
-        f"{int(frozen[r].sum())} point(s) lie below the melting point of "
+        f"{D.count(int(frozen[r].sum()), 'point')} below the melting point of "
         f"{res.stack.liquid[r]} ({_t(T_melt[r])}), the coldest at {_t(T[r, i_cold[r]])}: "
         "the liquid freezes there, so no bubble reading there can be trusted"))
     cap = res.stack.scalar["capacity"]
     over = res.stack.mask & (res.V > cap[:, None])
     i_over = np.argmax(np.where(over, res.V, -np.inf), axis=1)
     add(over.any(axis=1), "beyond tube capacity", ImpossiblePointWarning, lambda r: (
-        f"{int(over[r].sum())} point(s) exceed the tube's capacity of {cap[r] * 1e6:.4g} mL, "
-        f"the largest at {_t(T[r, i_over[r]])} with {res.V[r, i_over[r]] * 1e6:.4g} mL: gas "
+        f"{D.count(int(over[r].sum()), 'point')} beyond the tube's capacity of "
+        f"{D.number(cap[r] * 1e6, 'mL')}, the largest at {_t(T[r, i_over[r]])} with "
+        f"{D.number(res.V[r, i_over[r]] * 1e6, 'mL')}: gas "
         "escaped from the open end there, so those volumes are not the trapped gas's "
         "(exclude them, or use a larger tube or less air)"))
 
@@ -133,7 +136,7 @@ def _plausibility_checks(res, add) -> None:
     """Entries and results that are possible but unlikely (ranges: common practice, no
     source): a barometer outside 50-110 kPa (sea level to about 5,500 m), a room outside
     5-40 degC, ΔH_vap more than 30 % from the reference, or outside 10-80 kJ/mol where
-    there is none."""
+    there is none; a point excluded in the record without a reason."""
     lim, sc = res.choices.limits, res.stack.scalar
     P = sc["P_bar"] / 1e3
     add((P < lim["barometric_min_kPa"]) | (P > lim["barometric_max_kPa"]), "barometer?",
@@ -143,8 +146,8 @@ def _plausibility_checks(res, add) -> None:
     t = sc["T_room"] - 273.15
     add((t < lim["room_min_degC"]) | (t > lim["room_max_degC"]), "room temperature?",
         ImplausibleValueWarning, lambda r: (
-            f"room temperature {t[r]:.4g} degC is outside {lim['room_min_degC']:g}-"
-            f"{lim['room_max_degC']:g} degC: is the unit right (degC, K, degF)?"))
+            f"room temperature {t[r]:.4g} °C is outside {lim['room_min_degC']:g}-"
+            f"{lim['room_max_degC']:g} °C: is the unit right (degC, K, degF)?"))
     ref = res.comparison["enthalpy"]
     kJ = res.enthalpy / 1e3
     rel = kJ * 1e3 / ref - 1
@@ -155,6 +158,13 @@ def _plausibility_checks(res, add) -> None:
         + (f"{100 * rel[r]:+.0f} % from the reference" if np.isfinite(ref[r]) else
            f"outside {lim['enthalpy_min_kJ']:g}-{lim['enthalpy_max_kJ']:g} kJ/mol")
         + ": check the units of the entries and the air amount"))
+    bare = ~res.requested_include & (np.char.strip(res.requested_reasons.astype(str)) == "")
+    bare &= res.stack.mask
+    add(bare.any(axis=1), "exclusion without reason", ChoiceWarning, lambda r: (
+        f"{D.count(int(bare[r].sum()), 'point')} "
+        f"({', '.join(str(i) for i in np.flatnonzero(bare[r]))}) "
+        f"{'is' if bare[r].sum() == 1 else 'are'} excluded without a reason: write one in "
+        "the run's reason column, so the report can say why"))
 
 
 def _data_checks(res, add, out) -> np.ndarray:
@@ -228,8 +238,8 @@ def _fahrenheit_slips(res, out) -> None:
     hit = res.ok & (n >= 4) & (top > hi + 20.0) & (lo - 5.0 <= as_c) & (as_c <= hi + 5.0)
     for r in np.flatnonzero(hit):
         out[r].append(Finding("degF?", SuspectPointWarning, (
-            f"point {i[r]} ({top[r]:.2f} degC) stands {top[r] - hi[r]:.0f} K above the "
-            f"next hottest point; read as degF it is {as_c[r]:.1f} degC, inside the run's "
+            f"point {i[r]} ({top[r]:.2f} °C) stands {top[r] - hi[r]:.0f} K above the "
+            f"next hottest point; read as degF it is {as_c[r]:.1f} °C, inside the run's "
             "range: was it read on a Fahrenheit scale? (correct it in the run file)")))
 
 
@@ -274,8 +284,8 @@ def _reference_checks(res, add, out, span) -> None:
     add(far | biased, "extrapolated T_b", ExtrapolationWarning, lambda r: (
         f"the normal boiling point ({_t(res.T_b_normal[r])}) lies {beyond[r]:.1f} K beyond "
         "the highest point: an extrapolation"
-        + (f"; the model's own bias there, {bias[r]:+.2f} ± {u_bias[r]:.2f} K (from the "
-           f"{res.bias_from[r]}), exceeds u(T_b) = {res.u_T_b_normal[r]:.2f} K"
+        + (f"; the model's own bias there, {D.value_u(bias[r], u_bias[r], 'K')} (from the "
+           f"{res.bias_from[r]}), exceeds u(T_b) = {D.uncertainty(res.u_T_b_normal[r], 'K')}"
            if biased[r] else bias_note(bias, r))))
 
 
@@ -296,6 +306,15 @@ def _fit_checks(res, add) -> None:
         f"{100 * lim['scatter_percentile']:g}th percentile ({chi_lim[r]:.1f}): scatter larger "
         "than the stated uncertainties"))
     _air_reference_checks(res, add)
+    Tw = f.T_m_weights if f.T_m_weights is not None else f.T_m
+    with np.errstate(invalid="ignore"):
+        moved = np.abs(Tw - f.T_m) > 1e-9 * f.T_m
+    used = np.where(res.include, res.stack.T, np.nan)
+    add(moved, "T_m at the data's end", ChoiceWarning, lambda r: (
+        f"the fit's weights put ΔH_vap's reference temperature at {D.number(Tw[r], 'K')}, "
+        f"outside the points used ({D.number(np.nanmin(used[r]), 'K')} to "
+        f"{D.number(np.nanmax(used[r]), 'K')}: correlated GLS weights of mixed sign); "
+        f"ΔH_vap is stated at {D.number(f.T_m[r], 'K')}, the nearest end of the data"))
     not_sc = ((res.self_consistent_rounds > 0) & ~(res.self_consistent_error <= SELF_CONSISTENT_TOL)
               & (res.air_reference["fallback"] == ""))  # a fallback says so itself
     add(not_sc, "not self-consistent", ConvergenceWarning, lambda r: (
@@ -307,8 +326,8 @@ def _air_reference_checks(res, add) -> None:
     """A self-consistent p_ref that came from the line, or that does not exist."""
     how, model = res.air_reference, res.fit.model
     closest = lambda r: (  # noqa: E731
-        f"closest attempt: g(p) - p = {D.number(how['best_G'][r] / 1e3, 'kPa', 3)} at "
-        f"p = {D.number(how['best_p'][r] / 1e3, 'kPa', 3)}")
+        f"closest attempt: g(p) - p = {D.number(how['best_G'][r] / 1e3, 'kPa')} at "
+        f"p = {D.number(how['best_p'][r] / 1e3, 'kPa')}")
     add((how["model"] == LINE) & (model.name != LINE), "air reference from the line",
         ChoiceWarning, lambda r: (
             f"the {model.label} curve gives no stable self-consistent p_vap at the air "

@@ -24,7 +24,7 @@ import numpy as np
 import pandas as pd
 
 from .. import display as D
-from ..record.assemble import stack_runs
+from ..record.assemble import name_runs, stack_runs
 from ..record.longtable import stack_table, table_to_runs
 from ..record.run import Run
 from ..record.sources import LoadResult, read_runs
@@ -61,6 +61,9 @@ class ManyResult:
         ΔH_vap (at the runs' mean T_m) and of T_b at 101.325 kPa, every estimator
         beside it, and the joint fit (:mod:`vpkit.analysis.section`). The summary then
         has each run's z, ζ and signal; both need the results kept (``keep=True``).
+    notes : tuple of str
+        What reading the folder noted without failing a run (a session not applied, a
+        run id taken by another file).
     """
 
     summary: pd.DataFrame
@@ -72,6 +75,7 @@ class ManyResult:
     paths: Mapping[str, object] = field(default_factory=dict, repr=False)
     consensus: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(
         columns=CONSENSUS_COLUMNS), repr=False)
+    notes: tuple[str, ...] = ()
 
     def _where(self, run_id: str) -> tuple[StackResult, int]:
         for _, res in self.blocks:
@@ -153,6 +157,7 @@ def analyze_many(source, *, chunk_runs: int = 2048, keep: bool = True, sessions:
     order = None
     applied: Mapping[str, str] = {}
     paths: Mapping[str, object] = {}
+    notes: tuple[str, ...] = ()
     if isinstance(source, pd.DataFrame):
         stack, bad = stack_table(source)
         failed = tuple((rid, str(e)) for rid, e in bad)
@@ -163,22 +168,21 @@ def analyze_many(source, *, chunk_runs: int = 2048, keep: bool = True, sessions:
     elif isinstance(source, Mapping) or (isinstance(source, Iterable)
                                           and not isinstance(source, (str, bytes))
                                           and not hasattr(source, "is_dir")):
-        runs = dict(source) if isinstance(source, Mapping) else {
-            f"run{i + 1}": r for i, r in enumerate(source)}
+        runs = dict(source) if isinstance(source, Mapping) else name_runs(source)
         stack, bad = stack_runs(runs, strict=False)
         failed = tuple((rid, str(e)) for rid, e in bad)
         order = list(runs)
     else:
         load: LoadResult = read_runs(source, sessions=sessions)
         stack, failed, runs, applied = load.stack, load.failed, dict(load.runs), load.sessions
-        paths = dict(load.paths)
+        paths, notes = dict(load.paths), tuple(load.notes)
     summary, blocks = analyze_stack_in_blocks(stack, choices, chunk_runs=chunk_runs, keep=keep)
     summary = _with_failures(summary, failed, order)
     cons = pd.DataFrame(columns=CONSENSUS_COLUMNS)
     if keep and len(summary):
         cons, score = section_tables(summary, blocks)
         summary = with_signals(summary, score)
-    return ManyResult(summary, choices, blocks, failed, runs, applied, paths, cons)
+    return ManyResult(summary, choices, blocks, failed, runs, applied, paths, cons, notes)
 
 
 def with_signals(summary: pd.DataFrame, score: pd.DataFrame) -> pd.DataFrame:

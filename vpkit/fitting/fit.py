@@ -326,7 +326,11 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
             norm = res / np.sqrt(chi2_red)[:, None]
         else:
             norm = res / np.sqrt(np.einsum("bii->bi", C))
-        T_m = weighted_temperature(L, Tsafe, mask)
+        T_w = weighted_temperature(L, Tsafe, mask)
+        # ΔH refers to a temperature inside the points used: correlated GLS weights of
+        # mixed sign can put the weights' own T_m beyond them; then the nearest end
+        T_m = np.clip(T_w, np.where(mask, Tsafe, np.inf).min(axis=1),
+                      np.where(mask, Tsafe, -np.inf).max(axis=1))
     norm = np.where(mask, norm, np.nan)
     res = np.where(np.isfinite(T), res, np.nan)
     if influence:
@@ -340,14 +344,14 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     bad = ~good
     th = np.where(bad[:, None], np.nan, th)
     cov = np.where(bad[:, None, None], np.nan, cov)
-    for a in (chi2, chi2_red, T_m):
+    for a in (chi2, chi2_red, T_m, T_w):
         a[bad] = np.nan
     lev[bad], loo[bad], res[bad], norm[bad] = np.nan, np.nan, np.nan, np.nan
     ro = readonly
     return StackFit(m, weighting, space, ro(th), ro(cov), ro(T), ro(y), ro(mask), ro(res),
                     ro(norm), ro(lev), ro(loo), ro(chi2), ro(dof), ro(chi2_red),
                     ro(scaled & good), ro(T_m), ro(n), ro(L), None if C is None else ro(C),
-                    tuple(status), ro(ill), method)
+                    tuple(status), ro(ill), method, T_m_weights=ro(T_w))
 
 
 def _sandwich(m, space, full, T, y, mask, th, L, fac, Rinv, status, good):

@@ -57,6 +57,10 @@ class StackFit:
     cov_scale : ndarray (R, N) or None
         Where the covariance of ln p was evaluated at the fitted curve
         (``fit_stack(at_fitted=...)``): the factor p/p_fit it was scaled by per point.
+    T_m_weights : ndarray (R,) or None
+        Where the fit's own weights put ΔH's reference temperature; ``T_m`` is that,
+        clipped to the range of the points fitted (correlated GLS weights of mixed
+        sign can put it beyond them).
     cov_method : {"gls", "sandwich", "scatter"}
         How ``cov`` was found: GLS, (J^T C^-1 J)^-1; sandwich, M C M^T for
         weighted or ordinary estimates when the points' covariance is known;
@@ -87,6 +91,7 @@ class StackFit:
     ill_conditioned: np.ndarray = field(default=None, repr=False)
     cov_method: str = "gls"
     cov_scale: np.ndarray | None = field(default=None, repr=False)
+    T_m_weights: np.ndarray | None = field(default=None, repr=False)
 
     def take(self, idx) -> StackFit:
         """The fits of the data sets at ``idx`` (an index array)."""

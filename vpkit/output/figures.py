@@ -20,6 +20,19 @@ COLUMN_WIDTHS = {"single": 85.0, "double": 175.0}
 LEGEND_PLACES = ("best",)
 
 
+#: Symbols in figure text, as mathtext (subscripts set as subscripts).
+DH = r"$\Delta H_\mathrm{vap}$"
+TM = r"$T_\mathrm{m}$"
+
+
+def enthalpy_title(liquid: str, dH, T_m_text: str, sep: str = ": ") -> str:
+    """'LIQUID: ΔH_vap = v ± u kJ/mol at T_m = ...' for a figure title (the report figure
+    and the live one); ``dH`` in J/mol with its uncertainty."""
+    return (f"{liquid}{sep}{DH} = "
+            f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} at "
+            f"{TM} = {T_m_text}")
+
+
 def _style(width_mm: float) -> dict:
     """Sizes for a figure width: no text below 7 pt at a single column (common practice for
     journal figures, no source)."""
@@ -115,9 +128,8 @@ def run_figure(a, width_mm: float = 85.0, *, reference: bool = True,
     ax.set_ylabel(r"$\ln(p_\mathrm{vap}/\mathrm{Pa})$", fontsize=st["font"])
     dH = f.enthalpy
     sep = "\n" if width_mm < 120 else ": "  # two lines at a single column, so it fits
-    ax.set_title(f"{a.si.liquid}{sep}ΔH_vap = "
-                 f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} at "
-                 f"T_m = {D.number(f.T_m, 'K', 3)}", fontsize=st["font"])
+    ax.set_title(enthalpy_title(a.si.liquid, dH, D.number(f.T_m, "K"), sep),
+                 fontsize=st["font"])
     res = f.residuals
     axr.axhline(0, color="k", lw=st["lw"] * 0.7)
     axr.errorbar(x[inc & ok], res[inc & ok], yerr=yerr[inc & ok], fmt="o", ms=st["ms"],
@@ -185,7 +197,7 @@ def overview_figure(summary, width_mm: float = 175.0) -> Figure:
         y = ys[-1] + 2.0
     ax.set_yticks(ticks, labels, fontsize=max(st["small"] - 1, 4))
     ax.invert_yaxis()
-    ax.set_xlabel("ΔH_vap / (kJ/mol)   (open squares: flagged; dashed: reference)",
+    ax.set_xlabel(DH + " [kJ/mol]   (open squares: flagged; dashed: reference)",
                   fontsize=st["font"])
     ax.tick_params(labelsize=st["small"])
     return fig
@@ -224,7 +236,7 @@ def section_figure(scores, row, width_mm: float = 120.0) -> Figure:
             ax.errorbar(x[sel], y[sel], xerr=k * u[sel], fmt=marker, mfc=face, mec="k",
                         ecolor="0.4", ms=st["ms"], lw=st["lw"], label=label)
     ax.set_yticks(y, [str(r) for r in d["run_id"]], fontsize=st["small"] if n <= 40 else 5)
-    ax.set_xlabel(r"$\Delta H_\mathrm{vap}$ at " + D.number(float(row["T_m [K]"]), "K")
+    ax.set_xlabel(DH + " at " + D.number(float(row["T_m [K]"]), "K")
                   + " [kJ/mol]", fontsize=st["font"])
     ax.tick_params(labelsize=st["small"])
     ax.set_title(f"{row['liquid']}: {int(row['runs used'])} of {int(row['runs'])} runs in "

@@ -8,10 +8,10 @@ the one rule of :mod:`vpkit.display`; tables keep full precision in CSV.
 from __future__ import annotations
 
 import html
-from pathlib import Path
+import io
 
 from .. import display as D
-from ..record.safewrite import atomic_write_text, write_table
+from ..record.safewrite import atomic_write_bytes, atomic_write_text, output_folder, write_table
 
 #: CSV numbers: 15 significant digits (all a double holds, without the 17th-digit noise
 #: of unit conversions, e.g. 29.6 rather than 29.600000000000023).
@@ -58,14 +58,14 @@ def bias_text(r) -> str:
     beyond = r["T_b beyond data [K]"]
     if beyond != beyond:  # NaN
         return "not computed"
-    where = (f"T_b lies {D.number(beyond, 'K', 3)} beyond the highest point used"
+    where = (f"T_b lies {D.number(beyond, 'K')} beyond the highest point used"
              if beyond > 0 else "T_b lies within the data")
     if not r["T_b bias from"]:
         return where + "; the model's bias there is not estimated"
     return (where + "; the model's own bias there (fitted − true) is "
             f"{D.value_u(r['T_b bias at 101.325 kPa [K]'], r['u(T_b bias) [K]'], 'K')} "
             f"(from the {md_text(r['T_b bias from'])}), against u(T_b) = "
-            f"{D.number(r['u(T_b at 101.325 kPa) [K]'], 'K', 2)}")
+            f"{D.uncertainty(r['u(T_b at 101.325 kPa) [K]'], 'K')}")
 
 
 def true_text(r) -> str:
@@ -98,7 +98,7 @@ def budget_markdown(a) -> list[str]:
         if row[("ΔH_vap", "share")] < 1e-4 and row[("T_b at 101.325 kPa", "share")] < 1e-4:
             continue
         out.append(f"| {g} | {D.number(row[('ΔH_vap', 'u from it')], digits=2)} | "
-                   f"{D.number(100 * row[('ΔH_vap', 'share')], '%', 2)} | "
+                   f"{D.uncertainty(100 * row[('ΔH_vap', 'share')], '%')} | "
                    f"{D.number(row[('ΔH_vap', 'u if halved')], digits=2)} | "
                    f"{D.number(row[('T_b at 101.325 kPa', 'u from it')], digits=2)} |")
     out.append(f"| total | {D.number(tot[('ΔH_vap', 'u from it')], digits=2)} | 100 % | | "
@@ -202,16 +202,17 @@ def write_outputs(a, out_dir, *, width_mm: float = 85.0, stem: str | None = None
                   dpi: int = 300, formats: tuple[str, ...] = ("png", "svg")) -> dict:
     """Write the figure (``formats`` among png, svg, pdf; PNG at ``dpi``), the
     tables (CSV) and the summary (Markdown) into ``out_dir``; returns the paths."""
-    out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
-    stem = stem or (Path(a.run.source).stem if a.run.source else "run")
+    out = output_folder(out_dir)
+    stem = stem or a.run.name or "run"
     fig = a.figure(width_mm=width_mm)
     paths = {}
     for fmt in formats:
         if fmt not in ("png", "svg", "pdf"):
             raise ValueError(f"figure format must be png, svg or pdf, got {fmt!r}")
         paths[fmt] = out / f"{stem}.{fmt}"
-        fig.savefig(paths[fmt], dpi=dpi if fmt == "png" else "figure")
+        buf = io.BytesIO()
+        fig.savefig(buf, format=fmt, dpi=dpi if fmt == "png" else "figure")
+        atomic_write_bytes(paths[fmt], buf.getvalue())
     paths["points"] = out / f"{stem}_points.csv"
     paths["results"] = out / f"{stem}_results.csv"
     paths["summary"] = out / f"{stem}_summary.md"

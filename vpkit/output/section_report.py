@@ -12,13 +12,18 @@ import base64
 import datetime as _dt
 import html
 import io
-import re
-from pathlib import Path
 
 import numpy as np
 
 from .. import display as D
-from ..record.safewrite import write_table
+from ..fitting.models import get_model
+from ..record.safewrite import (
+    atomic_write_bytes,
+    atomic_write_text,
+    file_names,
+    output_folder,
+    write_table,
+)
 from .figures import overview_figure, section_figure
 from .run_summary import AIR_TEXT, CSV_FLOAT, SAFETY_NOTE, VAPOR_TEXT, WEIGHT_TEXT, md_text
 
@@ -59,7 +64,7 @@ def methods_paragraph(many) -> str:
     refs = sorted(set(x for x in ok["reference"].dropna() if x))
     n_depth = sum(1 for r in many.runs.values() if r.entry("bubble_depth") is not None)
     head = ("the hydrostatic head of the bubble depth was added to the barometric pressure "
-            f"for the {n_depth} run(s) that record a depth") if c.use_head \
+            f"for the {D.count(n_depth, 'run')} that record a depth") if c.use_head \
         else "no hydrostatic head was applied"
     n_excl = int((ok["points total"] - ok["points used"]).sum()) if len(ok) else 0
     counts = ok["air amount from"].value_counts() if len(ok) else {}
@@ -68,8 +73,10 @@ def methods_paragraph(many) -> str:
     how = (" (each run by the first method its record supports: the weighing, the injected "
            "volume, the cold reading)" if c.air_from == "auto" else "")
     sessions = len(getattr(many, "sessions", {}) or {})
+    label = get_model(ok["model"].iloc[0] if len(ok) else c.model).label
     return (
-        f"Vapor pressures of {len(ok)} run(s) were obtained with the trapped-bubble method "
+        f"Vapor pressures of {D.count(len(ok), 'run')} were obtained with the trapped-bubble "
+        "method "
         "by subtracting the partial pressure of the trapped air from the total pressure on the "
         "gas (Dalton's law, ideal gas). Gas volumes were the readings corrected for the volume "
         "below the zero mark, calibrated from the weighing where a run has one (the trapped "
@@ -80,10 +87,11 @@ def methods_paragraph(many) -> str:
         + (" The liquid floated on water touching the bubble, so the saturation pressure of "
            "water (IAPWS-95) was subtracted as well, at every point and at the air "
            "reference." if c.water_layer else "")
-        + f" ΔH_vap was obtained from a {ok['model'].iloc[0] if len(ok) else c.model} fit "
+        + f" ΔH_vap was obtained from {_a(label)} {label} fit "
         f"of ln p against T by {WEIGHT_TEXT[c.weighting]}; it is the apparent value (ideal "
         "vapor, liquid volume neglected) at T_m, the mean of 1/T weighted as the fit weighs "
-        "the points. The true ΔvapH is the apparent value times Δz = 1 + p(B − V_l)/(RT), "
+        "the points (within the points' range). The true ΔvapH is the apparent value times "
+        "Δz = 1 + p(B − V_l)/(RT), "
         "with the second virial coefficient B from the Tsonopoulos correlation and the "
         "liquid molar volume V_l, compared with PPDS equation 12 of the VDI Heat Atlas; "
         "ΔS_vap at the normal boiling point is the true ΔvapH there over T_b. The model's "
@@ -92,10 +100,11 @@ def methods_paragraph(many) -> str:
         "uncertainties from linear propagation of the reading, thermometer, barometer, balance "
         "and density uncertainties; the parameter covariance was scaled by the reduced χ² "
         "where χ² exceeded its 95th percentile. Reference equations: "
-        f"{'; '.join(refs) if refs else 'none'}. {n_excl} point(s) were left out of the fits "
-        "(by the analysts or automatically), each with the reason listed below"
-        + (f"; exclusions saved in {sessions} session file(s) were applied." if sessions
-           else "."))
+        f"{'; '.join(refs) if refs else 'none'}. {D.count(n_excl, 'point')} "
+        f"{'was' if n_excl == 1 else 'were'} left out of the fits (by the analysts or "
+        "automatically), each with the reason listed below"
+        + (f"; exclusions saved in {D.count(sessions, 'session file')} were applied."
+           if sessions else "."))
 
 
 def _num(v):
@@ -104,6 +113,11 @@ def _num(v):
     except (TypeError, ValueError):
         return np.nan
     return v
+
+
+def _a(word: str) -> str:
+    """'a' or 'an' before ``word`` (by its first letter; enough for the model labels)."""
+    return "an" if word[:1].lower() in "aeiou" else "a"
 
 
 def _cell(row, col, other, how) -> str:
@@ -118,12 +132,12 @@ def _cell(row, col, other, how) -> str:
         w = _num(row.get(other))
         return f"{int(v)} / {int(w)}" if np.isfinite(w) else f"{int(v)}"
     if how == "range":
-        return f"{D.number(v, '', 3)}–{D.number(_num(row.get(other)), '', 3)}"
+        return f"{D.number(v)}–{D.number(_num(row.get(other)))}"
     if how == "signed":
         return D.signed(v, "", 1)
     if how == "value_u":
         return D.value_u(v, _num(row.get(other)))
-    return D.number(v, "", 4)
+    return D.number(v)
 
 
 def _rows(summary):
@@ -182,11 +196,6 @@ def _png(fig, dpi=150) -> bytes:
     return buf.getvalue()
 
 
-def _safe(name: str) -> str:
-    """A file-name-safe version of a run id."""
-    return re.sub(r"[^A-Za-z0-9._-]+", "_", str(name))[:80] or "run"
-
-
 def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
                        max_run_figures: int = 60) -> dict:
     """Write ``report.html``, ``report.md``, ``summary.csv`` and figures for ``many``.
@@ -202,20 +211,21 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
     -------
     dict of paths, plus ``summary`` (the DataFrame) and ``failed``.
     """
-    out = Path(out_dir)
-    (out / "figures").mkdir(parents=True, exist_ok=True)
+    out = output_folder(out_dir)
+    output_folder(out / "figures")
     summary = many.summary
     write_table(summary, out / "summary.csv", float_format=CSV_FLOAT)
     ok = summary[summary["status"].fillna("") == ""]
     over = _png(overview_figure(ok))
-    (out / "figures" / "overview.png").write_bytes(over)
+    atomic_write_bytes(out / "figures" / "overview.png", over)
     flagged = ok[ok["flags"] != ""]
     wanted = list(ok["run_id"]) if len(ok) <= max_run_figures else list(flagged["run_id"])
     analyses = many.analyses()
     run_figs = {rid: _png(analyses[rid].figure(width_mm=120)) for rid in wanted
                 if rid in analyses}
+    files = {rid: f"figures/run_{name}.png" for rid, name in zip(run_figs, file_names(run_figs))}
     for rid, png in run_figs.items():
-        (out / "figures" / f"{_safe(rid)}.png").write_bytes(png)
+        atomic_write_bytes(out / files[rid], png)
     not_analysed = summary[summary["status"].fillna("") != ""]
     exclusions = [(rid, i, a.reasons[i] or "no reason given", a.T[i] - 273.15)
                   for rid, a in analyses.items() for i in range(a.n) if not a.include[i]]
@@ -224,26 +234,30 @@ def write_batch_report(many, out_dir, *, title: str = "Vapor-pressure runs",
     cons = many.consensus
     write_table(cons, out / "consensus.csv", float_format=CSV_FLOAT)
     section_figs = {}
+    liquids = [str(x) for x in cons["liquid"]]
+    section_files = {liq: f"figures/section_{name}.png"
+                     for liq, name in zip(liquids, file_names(liquids))}
     for _, row in cons.iterrows():
         runs = summary[(summary["section"] == row["liquid"])
                        & summary["ΔH_vap at section T_m [kJ/mol]"].astype(float).notna()]
         png = _png(section_figure(runs, row))
         section_figs[str(row["liquid"])] = png
-        (out / "figures" / f"section_{_safe(row['liquid'])}.png").write_bytes(png)
+        atomic_write_bytes(out / section_files[str(row["liquid"])], png)
     parts = _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions,
-                  run_figs, cons, section_figs)
+                  run_figs, cons, section_figs, many.notes)
     html_path = out / "report.html"
-    html_path.write_text("\n".join(parts), encoding="utf-8")
+    atomic_write_text(html_path, "\n".join(parts))
     md_path = out / "report.md"
-    md_path.write_text(_markdown(title, stamp, methods, summary, flagged, not_analysed,
-                                 exclusions, run_figs, cons, section_figs), encoding="utf-8")
+    atomic_write_text(md_path, _markdown(title, stamp, methods, summary, flagged, not_analysed,
+                                         exclusions, files, cons, section_files,
+                                         many.notes))
     return {"html": html_path, "markdown": md_path, "summary_csv": out / "summary.csv",
             "consensus_csv": out / "consensus.csv", "summary": summary,
             "consensus": cons, "failed": many.failed}
 
 
 def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusions, run_figs,
-          cons, section_figs):
+          cons, section_figs, notes=()):
     e = html.escape
 
     def img(png: bytes, alt: str) -> str:
@@ -289,8 +303,11 @@ def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusion
         parts.append("<h2>Runs not analysed</h2><ul>" + "".join(
             f"<li>{e(str(r['run_id']))}: {e(str(r['status']))}</li>"
             for _, r in not_analysed.iterrows()) + "</ul>")
+    if notes:
+        parts.append("<h2>Reading notes</h2><ul>" + "".join(f"<li>{e(n)}</li>" for n in notes)
+                     + "</ul>")
     parts.append("<h2>Excluded points</h2>")
-    parts.append("<ul>" + "".join(f"<li>{e(rid)}, point {i} ({t:.2f} °C): {e(why)}</li>"
+    parts.append("<ul>" + "".join(f"<li>{e(rid)}, point {i} ({D.number(t, 'degC')}): {e(why)}</li>"
                                   for rid, i, why, t in exclusions) + "</ul>"
                  if exclusions else "<p>None.</p>")
     parts.append("<h2>Runs</h2>")
@@ -300,8 +317,10 @@ def _html(title, stamp, methods, summary, over, flagged, not_analysed, exclusion
     return parts
 
 
-def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions, run_figs,
-              cons, section_figs):
+def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions, run_files,
+              cons, section_files, notes=()):
+    """The report in Markdown; figures linked by the file names written
+    (``run_files``, ``section_files``: run id or liquid to path)."""
     md = [f"# {md_text(title)}", "", f"Generated by vpkit on {stamp}.", "",
           f"> {SAFETY_NOTE}", "", "## Methods", "", md_text(methods), "", "## Summary", ""]
     md.append("| " + " | ".join(md_text(c) for c in SUMMARY_COLUMNS) + " |")
@@ -316,9 +335,8 @@ def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions,
         md += ["| " + " | ".join(md_text(v) for v in row) + " |"
                for row in _consensus_rows(cons)]
         md += ["", "consensus.csv holds every estimator with full precision.", ""]
-        for liq in section_figs:
-            md += [f"### {md_text(liq)}", "",
-                   f"![{md_text(liq)}](figures/section_{_safe(liq)}.png)", ""]
+        for liq, path in section_files.items():
+            md += [f"### {md_text(liq)}", "", f"![{md_text(liq)}]({path})", ""]
     else:
         md += ["No liquid has two or more analysed runs.", ""]
     md += ["## Runs that need a second look", ""]
@@ -328,12 +346,14 @@ def _markdown(title, stamp, methods, summary, flagged, not_analysed, exclusions,
         md += ["", "## Runs not analysed", ""]
         md += [f"- {md_text(r['run_id'])}: {md_text(r['status'])}"
                for _, r in not_analysed.iterrows()]
+    if notes:
+        md += ["", "## Reading notes", ""] + [f"- {md_text(n)}" for n in notes]
     md += ["", "## Excluded points", ""]
-    md += [f"- {md_text(rid)}, point {i} ({t:.2f} °C): {md_text(why)}"
+    md += [f"- {md_text(rid)}, point {i} ({D.number(t, 'degC')}): {md_text(why)}"
            for rid, i, why, t in exclusions] or ["None."]
     md += ["", "## Runs", ""]
-    for rid in run_figs:
-        md += [f"### {md_text(rid)}", "", f"![{md_text(rid)}](figures/{_safe(rid)}.png)", ""]
+    for rid, path in run_files.items():
+        md += [f"### {md_text(rid)}", "", f"![{md_text(rid)}]({path})", ""]
     return "\n".join(md) + "\n"
 
 

@@ -125,7 +125,7 @@ def budget_html(a) -> str:
         rows.append(
             f"<tr><td>{html.escape(str(g))}</td><td><div style='background:#4a6fa5;"
             f"height:10px;width:{200 * share:.0f}px'></div></td>"
-            f"<td>{D.number(100 * share, '%', 2)}</td><td>"
-            f"{D.number(row[('ΔH_vap', 'u from it')], 'kJ/mol', 2)}</td></tr>")
+            f"<td>{D.uncertainty(100 * share, '%')}</td><td>"
+            f"{D.uncertainty(row[('ΔH_vap', 'u from it')], 'kJ/mol')}</td></tr>")
     return ("<b>What limits u(ΔH_vap)</b> (share of u²; the rest under 0.5 %)<table>"
             + "".join(rows) + "</table>")

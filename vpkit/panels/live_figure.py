@@ -17,6 +17,7 @@ from matplotlib.figure import Figure
 
 from .. import display as D
 from ..constants import T_ZERO_C
+from ..output.figures import enthalpy_title
 
 MM_PER_INCH = 25.4
 
@@ -208,9 +209,8 @@ class LiveFigure:
         self.rerr.set_segments([[(x[i], res[i] - u[i]), (x[i], res[i] + u[i])]
                                 for i in self._idx_in])
         dH = f.enthalpy
-        self.title.set_text(f"{a.si.liquid}: ΔH_vap = "
-                            f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} "
-                            f"at T_m = {D.quantity(f.T_m, None, temperature_unit, 'temperature')}")
+        self.title.set_text(enthalpy_title(
+            a.si.liquid, dH, D.quantity(f.T_m, None, temperature_unit, "temperature")))
         grown = self._keep_limits(xg, np.r_[y[ok], lo, hi], res[ok], u[ok])
         self.last_redraw = self.redraw(full=grown or relabel)
 

@@ -125,7 +125,7 @@ class OverviewPanel:
             + vu("consensus ΔH_vap [kJ/mol]", "u(consensus ΔH_vap) [kJ/mol]", "kJ/mol")
             + f" at {D.number(row['T_m [K]'], 'K')} ({row['method']}, "
             f"{int(row['runs used'])} of {int(row['runs'])} runs, Birge ratio "
-            f"{D.number(row['Birge ratio'], '', 3)}); joint fit "
+            f"{D.number(row['Birge ratio'])}); joint fit "
             + vu("joint-fit ΔH_vap [kJ/mol]", "u(joint-fit ΔH_vap) [kJ/mol]", "kJ/mol")
             + "; T_b at 101.325 kPa "
             + vu("consensus T_b at 101.325 kPa [degC]", "u(consensus T_b at 101.325 kPa) [K]",

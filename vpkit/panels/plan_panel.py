@@ -57,7 +57,7 @@ class PlanPanel:
         for w in (self.w_bubble, self.w_range, self.w_points, self.w_reading_u,
                   self.w_capacity):
             w.observe(lambda _: self.refresh(), names="value")
-        self.widget = W.VBox([W.HTML(f"<b>Planning a {html.escape(self.liquid)} run</b>"),
+        self.widget = W.VBox([W.HTML(f"<b>Planning a run of {html.escape(self.liquid)}</b>"),
                               self.w_bubble, self.w_range, self.w_points, self.w_reading_u,
                               self.w_capacity, self.w_out,
                               W.HTML(f"<small>{html.escape(SAFETY_NOTE)}</small>")])
@@ -87,8 +87,8 @@ class PlanPanel:
             for _, r in p.points.iterrows())
         warn = "".join(f"<br>⚠ {html.escape(w)}" for w in p.warnings)
         self.w_out.value = (
-            f"<b>expected u(ΔH_vap) = {D.number(p.u_enthalpy / 1e3, 'kJ/mol', 2)}</b>; "
-            f"u(T_b at 101.325 kPa) = {D.number(p.u_T_b, 'K', 2)}; extrapolation bias of T_b "
+            f"<b>expected u(ΔH_vap) = {D.uncertainty(p.u_enthalpy / 1e3, 'kJ/mol')}</b>; "
+            f"u(T_b at 101.325 kPa) = {D.uncertainty(p.u_T_b, 'K')}; extrapolation bias of T_b "
             f"{D.signed(p.bias_T_b, 'K', 2)}"
             + ("" if p.feasible else " <b style='color:#a00'>(not workable)</b>")
             + "<table><tr><th>t [degC]</th><th>reading [mL]</th><th>V [mL]</th>"

@@ -144,7 +144,9 @@ def liquid_row(liquid: str) -> pd.Series:
     if i is not None:
         return table.loc[i]
     raise BadValueError(f"no reference data for liquid {liquid!r}", column="liquid",
-                     hint="use one of " + ", ".join(table["liquid"]) + ", or reference=None")
+                     hint="use one of " + ", ".join(table["liquid"]) + "; a liquid not listed is "
+                     "analysed without a reference comparison (reference=None in Python, "
+                     "--reference none on the command line)")
 
 
 @functools.cache

@@ -136,7 +136,7 @@ def check_reading(run: Run, temperature: float, reading: float, *,
     e_user = float(from_si(expected, r_unit, "volume"))
     u_user = float(from_si(u, r_unit, "volume", delta=True))
     suspect = abs(z) > threshold
-    where = f"at {temperature:g} {t_unit}"
+    where = f"at {temperature:g} {D.LABELS.get(t_unit, t_unit)}"  # as typed
     msg = (f"expected {D.value_u(e_user, u_user, r_unit)} {where}; typed {reading:g} is "
            f"{abs(z):.1f} u away")
     msg += (": check it (a swapped digit or a misread graduation?)" if suspect

@@ -34,7 +34,7 @@ from ..analysis.engine import StackResult, analyze_stack
 from ..constants import T_ZERO_C
 from ..errors import BadValueError
 from ..physics.curves import reference_curve
-from ..physics.liquids import liquid_density, melting_point
+from ..physics.liquids import has_reference, liquid_density, liquids, melting_point
 from ..physics.simulate import simulate_run
 from ..record.assemble import stack_runs
 from ..record.fields import DEFAULT_UNCERTAINTY, Entry
@@ -81,6 +81,14 @@ class Plan:
     instruments: Mapping[str, float] = field(default_factory=dict)
     capacity: float | None = None
     offset: float = 0.15e-6
+
+    def __post_init__(self):
+        if not has_reference(self.liquid):
+            raise BadValueError(
+                f"cannot plan a run of {self.liquid!r}: a plan is predicted from a published "
+                "vapor-pressure curve, and vpkit bundles none for this liquid",
+                hint="plan one of " + ", ".join(liquids()) + " (a run of any other liquid "
+                "can still be analysed, without the comparison)")
 
     def run(self):
         """The noise-free run this plan records (the forward model), uncertainties stated."""
@@ -174,14 +182,14 @@ def _prediction(plan: Plan, res: StackResult, r: int) -> Prediction:
     T_boil = curve.boiling_point(plan.P_bar)
     T_melt = melting_point(plan.liquid)
     if np.max(T) > T_boil - BOIL_MARGIN_K:
-        warns.append(f"the hottest point ({np.max(T) - T_ZERO_C:.1f} degC) is within "
+        warns.append(f"the hottest point ({np.max(T) - T_ZERO_C:.1f} °C) is within "
                      f"{BOIL_MARGIN_K:g} K of the boiling point at "
-                     f"{plan.P_bar / 1e3:.1f} kPa ({T_boil - T_ZERO_C:.1f} degC)")
+                     f"{plan.P_bar / 1e3:.1f} kPa ({T_boil - T_ZERO_C:.1f} °C)")
         flags.append("too close to boiling")
     if np.isfinite(T_melt) and np.min(T) < T_melt + FREEZE_MARGIN_K:
-        warns.append(f"the coldest point ({np.min(T) - T_ZERO_C:.1f} degC) is within "
+        warns.append(f"the coldest point ({np.min(T) - T_ZERO_C:.1f} °C) is within "
                      f"{FREEZE_MARGIN_K:g} K of the melting point ({T_melt - T_ZERO_C:.1f} "
-                     "degC): the liquid freezes")
+                     "°C): the liquid freezes")
         flags.append("freezes")
     return Prediction(plan, float(res.u_enthalpy[r]), float(res.u_T_b_normal[r]),
                       float(res.bias_T_b_normal[r]), points, tuple(dict.fromkeys(warns)),

@@ -21,8 +21,9 @@ from .safewrite import restore
 
 _READING_COLUMNS = ("bath_temperature", "reading", "pressure", "include", "reason")
 _READING_KINDS = {"bath_temperature": "temperature", "reading": "reading", "pressure": "pressure"}
-_TRUE = {"yes", "y", "true", "1", "x", "include", "included", ""}
-_FALSE = {"no", "n", "false", "0", "exclude", "excluded"}
+#: Accepted ``include`` cells (case ignored); an empty cell includes the point.
+INCLUDE_YES = frozenset({"yes", "y", "true", "1", "x", "include", "included", ""})
+INCLUDE_NO = frozenset({"no", "n", "false", "0", "exclude", "excluded"})
 
 
 _NUMBER = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$")
@@ -194,9 +195,9 @@ def build_parts(entries, header, rows, linenos, comments, source, decimal=".", h
         p = cell(cells, "pressure")
         P.append(None if p == "" else _parse_number(p, source, lineno, "pressure", decimal))
         flag = cell(cells, "include").strip().lower()
-        if flag in _TRUE:
+        if flag in INCLUDE_YES:
             inc.append(True)
-        elif flag in _FALSE:
+        elif flag in INCLUDE_NO:
             inc.append(False)
         else:
             text = cell(cells, "include")

@@ -26,6 +26,7 @@ import pandas as pd
 from ..errors import BadValueError, InputError, RunFileError, UnitError
 from ..units import check_unit, reading_kind, to_si
 from .assemble import assemble, parse_direction, stack_runs
+from .cells import INCLUDE_NO, INCLUDE_YES
 from .fields import FIELDS, Entry
 from .run import Run
 from .stack import QUANTITY, U_KEYS, Columns, RunStack
@@ -35,8 +36,9 @@ _POINT = {"bath_temperature": ("T", "temperature"), "reading": ("reading", "read
           "pressure": ("pressure", "pressure")}
 _U_OF = {"bath_temperature": "T", "reading": "reading", "pressure": "pressure",
          **{q: k for k, q in QUANTITY.items() if k != "density"}}
-_TRUE = {"yes", "y", "true", "1", "x", "include", "included", "", "nan", "1.0"}
-_FALSE = {"no", "n", "false", "0", "exclude", "excluded", "0.0"}
+# as in a run file, plus what pandas makes of an empty or numeric cell
+_TRUE = INCLUDE_YES | {"nan", "1.0"}
+_FALSE = INCLUDE_NO | {"0.0"}
 
 
 def split_header(col) -> tuple[str, str]:

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass, field
+from pathlib import PurePath
 from typing import Any
 
 import numpy as np
@@ -74,6 +75,25 @@ class Run:
     @property
     def n_points(self) -> int:
         return len(self.bath_temperature)
+
+    @property
+    def name(self) -> str | None:
+        """The run's file name without its extension (a workbook's, for a run read from
+        one of its sheets): its run id and the name of its outputs; None for a run not
+        read from a file."""
+        if not self.source:
+            return None
+        return PurePath(self.source.partition(" [sheet ")[0]).stem
+
+    def first(self, k: int) -> Run:
+        """The run as it stood after its first ``k`` readings (metadata, session marks
+        and file lines kept): what a check of reading ``k + 1`` compares with."""
+        if not 0 <= k <= self.n_points:
+            raise ValueError(f"k must be 0 to {self.n_points}, got {k}")
+        return dataclasses.replace(
+            self, bath_temperature=self.bath_temperature[:k], reading=self.reading[:k],
+            pressure=self.pressure[:k], include=self.include[:k], reason=self.reason[:k],
+            rows=self.rows[:k])
 
     def row_of(self, i: int) -> int | None:
         """File line of reading ``i`` (None for runs not read from a file)."""

@@ -72,6 +72,13 @@ def read_run(path, *, decimal: str = ".", sheet: str | int | None = None) -> Run
     if is_workbook(path):
         return run_from_workbook(path, sheet, decimal=decimal)
     try:
+        size = path.stat().st_size
+        if size > MAX_FILE_BYTES:
+            raise RunFileError(
+                f"the file is {size / 1e6:,.1f} MB, more than the {MAX_FILE_BYTES / 1e6:g} MB "
+                "a run file may have (a run of readings by hand is a few kB)", file=str(path),
+                hint="a logger's record is not a run file: pick the readings at the settled "
+                "bath temperatures and write them as a run")
         raw = path.read_bytes()
     except OSError as exc:
         raise RunFileError(f"cannot open the run file: {exc.strerror}", file=str(path)) from exc
@@ -123,7 +130,7 @@ def parse_run(data: bytes | str, *, source: str = "<text>", decimal: str = ".") 
             if stripped != FORMAT_LINE:
                 comments.append(stripped)
             continue
-        cells = next(csv.reader([line], delimiter=delimiter)) if stripped else []
+        cells = _cells(line, delimiter, source, lineno) if stripped else []
         cells = [c.strip() for c in cells]
         while cells and cells[-1] == "":
             cells.pop()
@@ -164,6 +171,28 @@ def parse_run(data: bytes | str, *, source: str = "<text>", decimal: str = ".") 
     return Run(**build_parts(entries, header, rows, linenos, tuple(comments), source,
                              decimal=decimal, header_line=table[0][0],
                              entry_rows=tuple(entry_rows)))
+
+
+#: Largest run file read [bytes]; a larger one is refused before it is read.
+MAX_FILE_BYTES = 20_000_000
+
+#: Longest line a run file may have [characters] (a note of a few pages fits; a line
+#: longer than this is a damaged or foreign file, refused with its place).
+MAX_LINE = 100_000
+
+
+def _cells(line: str, delimiter: str, source: str, lineno: int) -> list[str]:
+    """One line split into cells; a line the CSV reader cannot take is refused, located."""
+    if len(line) > MAX_LINE:
+        raise RunFileError(f"line is {len(line):,} characters long, more than the "
+                           f"{MAX_LINE:,} a run file line may have", file=source, row=lineno,
+                           hint="shorten the text on that line (a long note belongs in a "
+                           "separate file) or check that this is a run file")
+    try:
+        return next(csv.reader([line], delimiter=delimiter))
+    except csv.Error as exc:
+        raise RunFileError(f"line cannot be read as CSV ({exc})", file=source, row=lineno,
+                           hint="check the quotes on that line") from exc
 
 
 def _decode(data: bytes | str, source: str) -> str:

@@ -32,6 +32,8 @@ import time
 from collections.abc import Iterator
 from pathlib import Path
 
+from ..errors import OutputError
+
 TMP_SUFFIX = ".vpkit-tmp"
 LOCK_SUFFIX = ".vpkit-lock"
 #: How long a writer waits for another's lock before saying so [s].
@@ -115,6 +117,39 @@ def remove_stale_temporaries(path, older_than: float = STALE_AFTER) -> list[Path
 
 def glob_escape(name: str) -> str:
     return re.sub(r"([*?\[])", r"[\1]", name)
+
+
+def output_folder(path) -> Path:
+    """``path`` as a folder for outputs, created if missing; a clear error if it is a file
+    or cannot be made."""
+    folder = Path(path)
+    if folder.exists() and not folder.is_dir():
+        raise OutputError(f"the output folder {str(folder)!r} is a file (how to fix: name a "
+                          "folder, which is created if missing)")
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"cannot create the output folder {str(folder)!r}: "
+                          f"{exc.strerror} (how to fix: name a folder you can write to)") from exc
+    return folder
+
+
+def file_names(names) -> list[str]:
+    """A file-name-safe stem for each of ``names``, no two alike (case ignored, as on
+    macOS and Windows): characters other than letters, digits, '.', '_' and '-' become
+    '_', at most 80 are kept, and a stem already taken gets ``_2``, ``_3``, ... in the
+    order given, so the same names always give the same files."""
+    out: list[str] = []
+    taken: set[str] = set()
+    for name in names:
+        base = re.sub(r"[^A-Za-z0-9._-]+", "_", str(name))[:80].strip(".") or "run"
+        stem, k = base, 1
+        while stem.lower() in taken:
+            k += 1
+            stem = f"{base}_{k}"
+        taken.add(stem.lower())
+        out.append(stem)
+    return out
 
 
 def atomic_write_bytes(path, data: bytes) -> Path:

@@ -24,6 +24,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from .. import display as D
 from ..errors import InputError
 from .run import Run
 from .runfile import format_run
@@ -266,9 +267,10 @@ def restore_session(path, run: Run) -> Restored | None:
                 new.include, new.reason, dict(old.choices),
                 f"the run file changed since the session was saved (old session kept as "
                 f"{aside.name}): re-applied the exclusions and reasons of "
-                f"{len(applied)} point(s) whose readings are unchanged"
-                + (f"; {len(lost)} saved point(s) ({', '.join(map(str, lost))}) no longer "
-                   "match a reading and were not applied" if lost else ""))
+                f"{D.count(len(applied), 'point')} whose readings are unchanged"
+                + (f"; {D.count(len(lost), 'saved point')} ({', '.join(map(str, lost))}) "
+                   + ("no longer matches a reading and was not applied" if len(lost) == 1
+                      else "no longer match a reading and were not applied") if lost else ""))
         return Restored(run.include, run.reason, {},
                         f"{exc} — kept as {aside.name}; starting from the run file")
     return Restored(tuple(state.include), tuple(state.reasons), dict(state.choices),

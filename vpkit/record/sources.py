@@ -8,6 +8,7 @@ run files are applied. The formats themselves are read by :mod:`.runfile`,
 
 from __future__ import annotations
 
+import os
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -65,6 +66,15 @@ def _hidden(rel: Path) -> bool:
         "-checkpoint.csv")
 
 
+def _points_outside(path: Path, folder: Path) -> bool:
+    """A symbolic link whose target lies outside ``folder`` (a folder report never reads
+    files it was not given)."""
+    if not path.is_symlink():
+        return False
+    target = Path(os.path.realpath(path))
+    return not target.is_relative_to(Path(os.path.realpath(folder)))
+
+
 def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadResult:
     """Read a folder of run files, a long table, one run file, or a workbook.
 
@@ -73,7 +83,9 @@ def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadR
     (id ``STEM`` for a single sheet, ``STEM:SHEET`` otherwise), or the long table of its
     first sheet. A bad run is reported in ``failed`` (its file or run id, and the error
     naming row and column, or sheet and cell); the others still load. Nothing is
-    skipped silently. With ``sessions``, a run file's session (exclusions made in the
+    skipped silently: a symbolic link to a file outside the folder is skipped with a
+    note, and a run id already taken (``run.csv`` beside ``run.xlsx``) becomes the file's
+    full name, with a note. With ``sessions``, a run file's session (exclusions made in the
     explorer) is applied and named in ``sessions``; a session that does not match its
     run is reported in ``notes`` and the run is used as its file says.
     """
@@ -89,6 +101,10 @@ def read_runs(source, *, pattern: str = "*.csv", sessions: bool = True) -> LoadR
     else:
         files = [source]
     for path in files:
+        if source.is_dir() and _points_outside(path, source):
+            out.notes.append(f"{path.name}: skipped, a link to {os.path.realpath(path)} "
+                             "outside the folder (copy the file in to include it)")
+            continue
         if is_workbook(path):
             out.add_workbook(path)
         else:
@@ -112,15 +128,30 @@ class _Collect:
         except VpkitError as exc:
             self.failed.append((str(path), str(exc)))
             return
+        rid = self.free_id(path.stem, path)
         sp = session_path(path)
         if sessions and sp.exists():
             try:
                 run = load_session(sp, run).apply(run)
-                self.applied[path.stem] = sp.name
+                self.applied[rid] = sp.name
             except SessionError as exc:
                 self.notes.append(f"{path.name}: session not applied: {exc}")
-        self.runs[path.stem] = run
-        self.paths[path.stem] = path
+        self.runs[rid] = run
+        self.paths[rid] = path
+
+    def free_id(self, rid: str, path: Path) -> str:
+        """``rid``, or the file's full name when another file already has that id
+        (``run.csv`` and ``run.xlsx`` side by side; then ``_2``, ``_3``, ... if that is
+        taken too); said in ``notes``."""
+        if rid not in self.runs:
+            return rid
+        new, k = path.name, 1
+        while new in self.runs:
+            k += 1
+            new = f"{path.name}_{k}"
+        self.notes.append(f"{path.name}: run id {rid!r} is taken by "
+                          f"{self.paths[rid].name}; this run is {new!r}")
+        return new
 
     def add_workbook(self, path: Path) -> None:
         try:
@@ -137,7 +168,8 @@ class _Collect:
                 self.paths[rid] = path
             return
         for k, sheet in enumerate(sheets):
-            rid = path.stem if len(sheets) == 1 else f"{path.stem}:{sheet.name}"
+            rid = self.free_id(path.stem if len(sheets) == 1 else f"{path.stem}:{sheet.name}",
+                               path)
             try:
                 self.runs[rid] = run_from_workbook(path, k, sheets=sheets)
                 self.paths[rid] = path

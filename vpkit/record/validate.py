@@ -270,6 +270,6 @@ def _check_temperature_unit(s: RunStack, c: Columns, out: dict) -> None:
             else:
                 i = int(np.nanargmin(raw[k]))
                 out[r] = ImpossibleDataError(
-                    f"bath temperatures from {raw[k, i]:g} degC are above any liquid bath",
+                    f"bath temperatures from {raw[k, i]:g} °C are above any liquid bath",
                     **s.place(r, "bath_temperature", i),
                     hint="these look like kelvin values: write 'bath_temperature [K]'")

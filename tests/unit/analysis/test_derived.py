@@ -76,9 +76,13 @@ def test_curved_model_without_curve_has_no_bias_estimate():
 
 @pytest.mark.parametrize("v,u,word", [(86.0, 1.0, "within Trouton"),
                                       (92.2, 0.5, "within Trouton"),
-                                      (110.0, 2.0, "hydrogen-bonded liquids"),
+                                      (110.0, 2.0, "within the hydrogen-bonded range"),
                                       (97.5, 0.5, "outside"), (70.0, 1.0, "outside"),
-                                      (97.0, 3.0, "too uncertain")])
+                                      (97.0, 3.0, "too uncertain"),
+                                      (72.7, 5.9, "consistent, within 2u, with Trouton")])
 def test_trouton_bands(v, u, word):
+    """The text says whether the value is inside a band or only within 2u of it (issue
+    "newcomer": 72.7 ± 5.9 once read "within Trouton's rule (80-95)")."""
     assert word in trouton_verdict(v, u)
     assert trouton_verdict(float("nan"), 1.0) == ""
+    assert "within Trouton" not in trouton_verdict(72.7, 5.9)

@@ -187,7 +187,34 @@ def test_a_bubble_beyond_the_tube_capacity_is_named():
     run = make_run("ethanol")
     a = vpkit.analyze(_entries(run, tube_capacity=vpkit.Entry(2.5, "mL")), warn=False)
     hit = [w for w in a.warnings if "capacity" in w]
-    assert hit and "2.5 mL" in hit[0] and "60.00 degC" in hit[0]
+    assert hit and "2.500 mL" in hit[0] and "60.00 °C" in hit[0]
     assert "beyond tube capacity" in a.results()["flags"][0]
     roomy = vpkit.analyze(_entries(run, tube_capacity=vpkit.Entry(10.0, "mL")), warn=False)
     assert not [w for w in roomy.warnings if "capacity" in w]
+
+
+@pytest.mark.parametrize("weighting", ["gls", "weighted", "ordinary"])
+@pytest.mark.parametrize("air_from,vap", [("weighed", "reference"), ("weighed", "fit"),
+                                          ("cold", "fit"), ("cold", "reference"),
+                                          ("injected", "auto")])
+def test_T_m_lies_inside_the_points_used(weighting, air_from, vap):
+    """ΔH_vap refers to a temperature inside the data (issue "newcomer"): a 6-point
+    cyclohexane run over 20-60 degC with p_vap at the air reference solved with the fit
+    once stated T_m = 336 K. Where the weights alone would put it outside, the warning
+    says so with the number."""
+    import numpy as np
+
+    import vpkit
+    from vpkit.physics.simulate import NOISE
+
+    rng = np.random.default_rng(17)
+    for k in range(6):
+        t = (2.0,) if air_from == "cold" else ()
+        run = make_run("cyclohexane", t + (20, 28, 36, 44, 52, 60), noise=NOISE, rng=rng)
+        a = vpkit.analyze(run, weighting=weighting, air_from=air_from,
+                          vapor_at_air_reference=vap, warn=False)
+        used = a.T[a.include]
+        assert used.min() - 1e-9 <= a.T_m <= used.max() + 1e-9, (k, a.T_m, used)
+        Tw = a.result.fit.T_m_weights[0]
+        if not used.min() <= Tw <= used.max():
+            assert any("outside the points used" in w for w in a.warnings)

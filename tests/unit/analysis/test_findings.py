@@ -68,7 +68,7 @@ def test_unit_slips_are_named_with_their_number():
     warm = _entry(run, "room_temperature", vpkit.Entry(70.3, "degC"))
     a = vpkit.analyze(warm, warn=False)
     w = [x for x in a.warnings if "room temperature" in x]
-    assert w and "70.3 degC is outside 5-40 degC" in w[0] and w[0].category is \
+    assert w and "70.3 °C is outside 5-40 °C" in w[0] and w[0].category is \
         vpkit.errors.ImplausibleValueWarning
     assert "room temperature?" in a.results()["flags"].iloc[0]
     assert "implausible ΔH_vap" in a.results()["flags"].iloc[0]
@@ -80,10 +80,10 @@ def test_where_the_method_is_ill_conditioned():
     82 kPa, Poling et al. 2001) is close to boiling. Thresholds: common practice, no source."""
     cold = vpkit.analyze(make_run("water", (15, 25, 35, 45, 55)), warn=False)
     amp = [w for w in cold.warnings if "times the volume reading's" in w]
-    assert amp and "at 15.00 degC" in amp[0] and "amplified error" in cold.results()["flags"][0]
+    assert amp and "at 15.00 °C" in amp[0] and "amplified error" in cold.results()["flags"][0]
     hot = vpkit.analyze(make_run("acetone", (25, 30, 35, 40, 45, 50)), warn=False)
     near = [w for w in hot.warnings if "close to boiling" in w]
-    assert near and "at 50.00 degC" in near[0] and "grown" in near[0]
+    assert near and "at 50.00 °C" in near[0] and "grown" in near[0]
     calm = vpkit.analyze(make_run("ethanol", (35, 40, 45, 50, 55, 60)), warn=False)
     assert not [w for w in calm.warnings if "times the volume" in w or "close to boiling" in w]
 
@@ -94,7 +94,30 @@ def test_air_reference_outside_the_equation_range_is_named():
     run = make_run("1-butanol", (40, 45, 50, 55, 60, 65), T_room=294.15)
     a = vpkit.analyze(run, reference="antoine", vapor_at_air_reference="reference", warn=False)
     hit = [w for w in a.warnings if "air reference" in w and "outside its range" in w]
-    assert hit and "21.00 degC" in hit[0] and "37.03 degC" in hit[0]
+    assert hit and "21.00 °C" in hit[0] and "37.03 °C" in hit[0]
     assert "air reference outside range" in a.results()["flags"][0]
     ok = vpkit.analyze(run, vapor_at_air_reference="reference", warn=False)  # PPDS: wide range
     assert not [w for w in ok.warnings if "outside its range" in w]
+
+
+def test_a_slip_in_what_was_entered_is_listed_before_its_symptoms():
+    """A barometer read as 1011 kPa (hPa meant): its warning comes first (issue
+    "newcomer": it was 6th of 8, after its symptoms)."""
+    import dataclasses
+
+    run = make_run("ethanol")
+    run = dataclasses.replace(run, entries=tuple(
+        (k, vpkit.Entry(1011.0, "kPa", 0.1) if k == "barometric_pressure" else e)
+        for k, e in run.entries))
+    a = vpkit.analyze(run, warn=False)
+    assert len(a.warnings) >= 2 and "1011 kPa" in a.warnings[0]
+
+
+def test_an_exclusion_in_the_record_without_a_reason_is_named():
+    run = make_run("ethanol").with_include([True, False, True, False] + [True] * 4,
+                                           ["", "", "", "bubble lost"] + [""] * 4)
+    a = vpkit.analyze(run, warn=False)
+    [w] = [w for w in a.warnings if "without a reason" in w]
+    assert w.startswith("1 point (1) is excluded without a reason")
+    ok = vpkit.analyze(run.with_include(run.include, ["thermometer"] * 8), warn=False)
+    assert not any("without a reason" in w for w in ok.warnings)

@@ -68,3 +68,17 @@ def test_no_text_below_7_pt_at_a_single_column():
     for leg in list(fig.legends) + [ax.get_legend() for ax in fig.axes if ax.get_legend()]:
         sizes += [t.get_fontsize() for t in leg.get_texts()]
     assert sizes and min(sizes) >= 7.0
+
+
+def test_symbols_in_figure_text_are_set_as_subscripts():
+    """No literal 'ΔH_vap' or 'T_m' in a figure: mathtext subscripts (issue "newcomer")."""
+    import re
+
+    a = vpkit.analyze(make_run("ethanol", noise=NOISE, rng=np.random.default_rng(3)))
+    fig = run_figure(a, width_mm=175)
+    fig.canvas.draw()  # mathtext must parse
+    texts = [t.get_text() for ax in fig.axes for t in (ax.title, ax.xaxis.label, ax.yaxis.label)]
+    title = fig.axes[0].get_title()
+    assert r"$\Delta H_\mathrm{vap}$ = " in title and r"$T_\mathrm{m}$ = " in title
+    outside_math = [re.sub(r"\$[^$]*\$", "", t) for t in texts]
+    assert not any("_vap" in t or "T_m" in t for t in outside_math), texts

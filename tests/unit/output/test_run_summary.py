@@ -52,6 +52,11 @@ def test_command_line_writes_outputs(tmp_path, capsys):
         assert (tmp_path / "out" / f"toluene_run{suffix}").exists()
     out = capsys.readouterr().out
     assert "ΔH_vap" in out and "Safety" in out
+    # the run id is the file's name, as in the many-run report (not "run1")
+    import pandas as pd
+
+    results = pd.read_csv(tmp_path / "out" / "toluene_run_results.csv")
+    assert results["run_id"].tolist() == ["toluene_run"]
 
 
 def test_command_line_reports_bad_file(tmp_path, capsys):
@@ -76,3 +81,28 @@ def test_free_text_in_markdown_carries_no_link_or_markup():
     out = md_text("[x](javascript:alert(1)) <img src=x onerror=y> *bold* a|b")
     assert "](" not in out.replace("\\](", "") and "<img" not in out
     assert out.startswith("\\[x\\]") and "\\*bold\\*" in out and "a\\|b" in out
+
+
+def test_an_output_folder_that_is_a_file_is_said_once_and_plainly(tmp_path, capsys):
+    path = vpkit.write_run(make_run("toluene"), tmp_path / "toluene_run.csv")
+    taken = tmp_path / "results"
+    taken.write_text("keep me", "utf-8")
+    for command in (["analyze", str(path), str(path)], ["report", str(tmp_path)]):
+        assert main(command + ["--out", str(taken)]) == 2
+        err = capsys.readouterr().err
+        assert err.count("is a file") == 1 and "results" in err and "Traceback" not in err
+    assert taken.read_text("utf-8") == "keep me"
+
+
+def test_two_run_files_of_one_name_keep_both_outputs(tmp_path, capsys):
+    paths = []
+    for k, liquid in enumerate(["toluene", "ethanol"]):
+        (tmp_path / str(k)).mkdir()
+        paths.append(str(vpkit.write_run(make_run(liquid), tmp_path / str(k) / "run.csv")))
+    assert main(["analyze", *paths, "--out", str(tmp_path / "out")]) == 0
+    assert "outputs are named run_2" in capsys.readouterr().out
+    import pandas as pd
+
+    first = pd.read_csv(tmp_path / "out" / "run_results.csv")
+    second = pd.read_csv(tmp_path / "out" / "run_2_results.csv")
+    assert (first["liquid"].item(), second["liquid"].item()) == ("toluene", "ethanol")

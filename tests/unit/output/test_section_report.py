@@ -55,7 +55,7 @@ def test_html_is_self_contained_and_escapes_user_text(tmp_path):
     assert "<script>alert" not in html and "&lt;script&gt;alert" in html
     text = " ".join(p.text)
     assert "Safety" in text and "Methods" in text and "pair9.csv" in text
-    assert "1 point(s) were left out of the fits" in text
+    assert "1 point was left out of the fits" in text
     assert "Runs not analysed" in text
 
 
@@ -63,7 +63,7 @@ def test_markdown_report_and_summary(tmp_path):
     res = write_batch_report(analyze_many(_folder(tmp_path)), tmp_path / "out")
     md = res["markdown"].read_text()
     assert "![overview](figures/overview.png)" in md
-    assert (tmp_path / "out" / "figures" / "pair1.png").exists()
+    assert (tmp_path / "out" / "figures" / "run_pair1.png").exists()
     assert "&lt;script&gt;" in md and "\\| bubble lost" in md
     summary = res["summary"]
     assert len(summary) == 5 and len(res["failed"]) == 1  # the unreadable file keeps a row
@@ -74,7 +74,7 @@ def test_markdown_report_and_summary(tmp_path):
 def test_report_command(tmp_path, capsys):
     assert main(["report", str(_folder(tmp_path)), "--out", str(tmp_path / "o")]) == 0
     out = capsys.readouterr().out
-    assert "4 run(s) analysed" in out and "could not be read" in out
+    assert "4 runs analysed" in out and "could not be read" in out
     assert (tmp_path / "o" / "report.html").exists()
 
 
@@ -96,3 +96,17 @@ def test_the_section_part_and_consensus_csv(tmp_path):
     shown = vpkit.display.value_u(row["ΔH_vap [kJ/mol]"], row["u(ΔH_vap) [kJ/mol]"])
     assert f"| {shown} |" in md
     assert repr(row["ΔH_vap [kJ/mol]"]) not in md
+
+
+def test_run_ids_that_clean_to_one_file_name_keep_both_figures(tmp_path):
+    """Issue "large and hostile inputs": 'a b' and 'a_b' (and a run called 'overview')
+    once overwrote each other's figures."""
+    rng = np.random.default_rng(4)
+    runs = {rid: make_run("ethanol", noise=NOISE, rng=rng)
+            for rid in ("a b", "a_b", "overview")}
+    res = write_batch_report(analyze_many(runs), tmp_path / "rep")
+    figs = sorted(p.name for p in (tmp_path / "rep" / "figures").glob("run_*.png"))
+    assert figs == ["run_a_b.png", "run_a_b_2.png", "run_overview.png"]
+    md = res["markdown"].read_text("utf-8")
+    assert "(figures/run_a_b.png)" in md and "(figures/run_a_b_2.png)" in md
+    assert (tmp_path / "rep" / "figures" / "overview.png").exists()

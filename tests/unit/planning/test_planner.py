@@ -82,6 +82,32 @@ def test_command_line_plan(capsys):
     assert "Safety:" in out
 
 
+def test_command_line_lists_liquids_and_refuses_unknown_ones_plainly(capsys):
+    assert main(["plan", "--list-liquids"]) == 0
+    out = capsys.readouterr().out
+    assert "ethanol" in out and "cyclohexane" in out and "melts at" in out
+    assert main(["plan", "benzene"]) == 2
+    err = capsys.readouterr().err
+    assert "cannot plan a run of 'benzene'" in err and "reference=None" not in err
+    assert "plan one of water" in err
+    assert main(["plan"]) == 2 and "--list-liquids" in capsys.readouterr().err
+
+
+def test_command_line_help_states_every_default(capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "200")  # argparse wraps help at the terminal's width
+    with pytest.raises(SystemExit):
+        main(["plan", "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    for option in ("--from T_FROM first bath temperature [°C] (default: 25.0)",
+                   "--to T_TO last bath temperature [°C] (default: 60.0)",
+                   "(default: 8)"):
+        assert option in text
+    with pytest.raises(SystemExit):
+        main(["analyze", "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    assert "(default: ./vpkit-out)" in text and "(default: clausius_clapeyron)" in text
+
+
 def test_plan_function_defaults_stay_below_boiling():
     import vpkit
 

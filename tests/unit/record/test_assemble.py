@@ -40,3 +40,23 @@ def test_failures_are_returned_per_run():
     assert rid == "bad" and isinstance(exc, vpkit.ImpossibleDataError) and exc.column == "reading"
     with pytest.raises(vpkit.ImpossibleDataError):
         stack_runs({"good": good, "bad": bad})
+
+
+def test_a_run_over_the_reading_limit_is_refused_alone_and_never_padded(monkeypatch):
+    """Issue "large and hostile inputs": a million-reading run once tried to allocate
+    22 TiB. Over the limit, that run fails with its place; the others are stacked at
+    their own size."""
+    import numpy as np
+
+    import vpkit.record.assemble as asm
+
+    monkeypatch.setattr(asm, "MAX_READINGS", 12)
+    from vpkit.record.runfile import format_run
+
+    text = format_run(make_run("ethanol", t_c=tuple(np.linspace(25, 60, 13))))
+    long_run = vpkit.parse_run(text, source="logger.csv")
+    stack, failed = asm.stack_runs({"long": long_run, "ok": make_run("water")}, strict=False)
+    assert stack.run_ids == ("ok",) and stack.T.shape == (1, 8)
+    [(rid, err)] = failed
+    assert rid == "long" and err.file == "logger.csv" and err.row == long_run.row_of(12)
+    assert "13 readings, more than the 12" in str(err) and "settled readings" in str(err)

@@ -42,3 +42,26 @@ def test_from_frame_and_to_frame():
     si = run_in_si(run)
     assert si.P_bar == pytest.approx(100100.0)
     assert si.scale_offset == pytest.approx(1e-7)
+
+
+def test_name_is_the_file_name_and_runs_are_keyed_by_it():
+    run = vpkit.parse_run(GOOD, source="data/bench 3.csv")
+    assert run.name == "bench 3"
+    sheet = vpkit.parse_run(GOOD, source="book.xlsx [sheet 'Tube 2.a']")
+    assert sheet.name == "book"
+    assert make_run("ethanol").name is None
+    from vpkit.record.assemble import name_runs
+
+    assert list(name_runs([run, sheet])) == ["bench 3", "book"]
+    # names missing or repeated: numbered in order instead
+    assert list(name_runs([run, run])) == ["run1", "run2"]
+
+
+def test_first_k_readings_is_the_run_so_far():
+    run = vpkit.parse_run(GOOD, source="bench.csv")
+    one = run.first(1)
+    assert one.n_points == 1 and one.reading == run.reading[:1]
+    assert one.row_of(0) == run.row_of(0) and one.entries == run.entries
+    assert run.first(run.n_points) == run and run.n_points == 2
+    with pytest.raises(ValueError, match="k must be 0 to 2"):
+        run.first(3)

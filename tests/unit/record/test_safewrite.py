@@ -245,3 +245,14 @@ def _is_number(text):
     except ValueError:
         return False
     return True
+
+
+def test_file_names_never_collide_and_are_deterministic():
+    from vpkit.record.safewrite import file_names
+
+    names = ["run a", "run_a", "Run_A", "../etc/passwd", "", "x" * 200]
+    got = file_names(names)
+    assert got[:3] == ["run_a", "run_a_2", "Run_A_3"]  # case ignored, as on macOS/Windows
+    assert "/" not in got[3] and not got[3].startswith(".") and got[4] == "run"
+    assert len(got[5]) == 80 and len({g.lower() for g in got}) == len(got)
+    assert file_names(names) == got

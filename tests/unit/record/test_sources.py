@@ -43,3 +43,58 @@ def test_a_long_table_in_a_workbooks_first_sheet(tmp_path):
     assert list(from_book.index) == ["r0", "r1", "r2"]
     np.testing.assert_allclose(from_book["ΔH_vap [kJ/mol]"], from_csv["ΔH_vap [kJ/mol]"],
                                rtol=1e-12)
+
+
+def test_a_file_with_a_200_kB_field_is_listed_and_the_folder_finishes(tmp_path, capsys):
+    """Issue "large and hostile inputs": one bad file never sinks a folder (the CSV
+    reader's own field limit, 128 KiB, used to escape as a raw csv.Error)."""
+    from vpkit.__main__ import main
+
+    for k, liquid in enumerate(["ethanol", "toluene"]):
+        vpkit.write_run(make_run(liquid, noise=NOISE, rng=np.random.default_rng(k)),
+                        tmp_path / f"{liquid}.csv")
+    text = (tmp_path / "ethanol.csv").read_text("utf-8")
+    (tmp_path / "noted.csv").write_text(
+        text.replace("[readings]", "notes," + "x" * 200_000 + "\n[readings]"), "utf-8")
+    load = read_runs(tmp_path)
+    assert sorted(load.runs) == ["ethanol", "toluene"]
+    [(rid, why)] = load.failed
+    assert rid.endswith("noted.csv") and "200,006 characters long" in why and "row " in why
+    assert main(["report", str(tmp_path), "--out", str(tmp_path / "out")]) == 0
+    out = capsys.readouterr().out
+    assert "2 runs analysed" in out and "not analysed: " in out and "noted.csv" in out
+
+
+def test_a_file_too_large_for_a_run_is_refused_before_it_is_read(tmp_path, monkeypatch):
+    import vpkit.record.runfile as rf
+
+    path = vpkit.write_run(make_run("ethanol"), tmp_path / "logger.csv")
+    monkeypatch.setattr(rf, "MAX_FILE_BYTES", 100)
+    try:
+        vpkit.read_run(path)
+    except vpkit.RunFileError as exc:
+        assert "logger.csv" in str(exc) and "more than the 0.0001 MB" in str(exc)
+    else:
+        raise AssertionError("a file over the limit was read")
+
+
+def test_links_out_of_the_folder_are_skipped_and_taken_ids_renamed(tmp_path):
+    """Issue "large and hostile inputs": a link to a file elsewhere is not read (it once
+    put a system file's first line into a report); run.csv beside run.xlsx both load."""
+    import os
+
+    folder, elsewhere = tmp_path / "section", tmp_path / "private"
+    folder.mkdir()
+    elsewhere.mkdir()
+    secret = vpkit.write_run(make_run("toluene"), elsewhere / "secret.csv")
+    os.symlink(secret, folder / "linked.csv")
+    vpkit.write_run(make_run("ethanol"), folder / "run.csv")
+    os.symlink(folder / "run.csv", folder / "inside.csv")  # a link within: read
+    write_xlsx(folder / "run.xlsx", {"run": _rows_of(make_run("water"))})
+    load = read_runs(folder)
+    assert sorted(load.runs) == ["inside", "run", "run.xlsx"]
+    assert load.runs["run.xlsx"].liquid == "water" and load.runs["run"].liquid == "ethanol"
+    assert any("linked.csv: skipped" in n and "outside the folder" in n for n in load.notes)
+    assert any("run id 'run' is taken by run.csv" in n for n in load.notes)
+    many = vpkit.analyze_many(folder)
+    assert len(many.notes) == 2 and "secret" not in "".join(many.summary["run_id"])
