@@ -39,11 +39,16 @@ test: $(VENV)/.test
 	$(PY) -m ruff check vpkit tests benchmarks data
 	$(PY) -m pytest -q
 
+# Every benchmark prints its figures; the run ends with one table of figure, target,
+# now, ratio and pass/fail (benchmarks/scoreboard.py).
+BENCH_RESULTS := out/bench-figures.jsonl
 bench: $(VENV)/.test
-	$(PY) benchmarks/bench_core.py
-	$(PY) benchmarks/bench_panel.py --browser
-	$(PY) benchmarks/bench_batch.py
-	$(PY) benchmarks/bench_planner.py
+	mkdir -p out && rm -f $(BENCH_RESULTS)
+	VPKIT_BENCH_RESULTS=$(BENCH_RESULTS) $(PY) benchmarks/bench_core.py
+	VPKIT_BENCH_RESULTS=$(BENCH_RESULTS) $(PY) benchmarks/bench_panel.py --browser
+	VPKIT_BENCH_RESULTS=$(BENCH_RESULTS) $(PY) benchmarks/bench_batch.py
+	VPKIT_BENCH_RESULTS=$(BENCH_RESULTS) $(PY) benchmarks/bench_planner.py
+	$(PY) benchmarks/scoreboard.py $(BENCH_RESULTS)
 
 clean:
 	rm -rf $(VENV) out .pytest_cache

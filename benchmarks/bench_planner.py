@@ -12,11 +12,16 @@ Run: python benchmarks/bench_planner.py
 
 from __future__ import annotations
 
+import sys
 import time
+from pathlib import Path
 
 import numpy as np
 
 from vpkit.planning.planner import Plan, predict, search
+
+sys.path.insert(0, str(Path(__file__).parent))
+from scoreboard import record  # noqa: E402
 
 
 def median_time(fn, repeat: int = 7) -> float:
@@ -49,6 +54,8 @@ def main() -> None:
     print(f"  100 predictions:       {t100 * 1e3:7.1f} ms   ({t100 * 10:.2f} ms per plan)")
     print(f"  search of {s.candidates} plans: {ts:7.2f} s    target < 2 s; "
           f"gain {s.gain:.1f} x in u(ΔH_vap)")
+    record("planner, one prediction", t1 * 1e3, 20.0, "ms")
+    record(f"planner, search of {s.candidates} plans", ts, 2.0, "s")
     try:
         from vpkit.panels import plan_panel
     except ImportError:  # the notebook extra is not installed
@@ -62,6 +69,7 @@ def main() -> None:
 
     tp = median_time(move, repeat=21)
     print(f"  panel slider -> readout: {tp * 1e3:5.1f} ms   target < 50 ms")
+    record("planner panel slider -> readout", tp * 1e3, 50.0, "ms")
 
 
 if __name__ == "__main__":

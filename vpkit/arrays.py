@@ -51,7 +51,7 @@ def pmatmul(A: np.ndarray, B: np.ndarray) -> np.ndarray:
     """A @ B with the shared axis summed in index order (see :func:`psum`)."""
     acc = A[..., :, 0, None] * B[..., None, 0, :]
     for i in range(1, A.shape[-1]):
-        acc = acc + A[..., :, i, None] * B[..., None, i, :]
+        acc += A[..., :, i, None] * B[..., None, i, :]
     return acc
 
 

@@ -179,31 +179,45 @@ def boiling_point_bias(fit, curves, P, on_curve) -> dict:
     return {"bias": bias, "u": u, "from": how}
 
 
-def trouton_verdict(v: float, u: float) -> str:
+def trouton_verdict(v, u):
     """Compare ΔS_vap = v ± u [J/(mol K)] at the normal boiling point with Trouton's rule.
 
     The rule: a band is consistent with the value when it lies within 2u of it (the
     value's 95 % interval reaches the band); the text says whether the value itself is
-    inside, or consistent only within its uncertainty."""
-    if not (np.isfinite(v) and np.isfinite(u)):
-        return ""
+    inside, or consistent only within its uncertainty. Batched: arrays ``v`` and ``u``
+    give an object array of texts (the few distinct verdicts are built once each; only
+    the value itself is formatted per run); scalars give one text. '' where v or u is
+    not finite.
+    """
+    scalar = np.ndim(v) == 0 and np.ndim(u) == 0
+    v, u = np.broadcast_arrays(np.asarray(v, float), np.asarray(u, float))
     lo, hi = TROUTON_BAND
     hlo, hhi = TROUTON_HBOND_BAND
-    normal = lo - 2 * u <= v <= hi + 2 * u
-    hbond = hlo - 2 * u <= v <= hhi + 2 * u
-    head = f"ΔS_vap = {D.value_u(v, u, 'J/(mol K)')} at T_b: "
-
-    def how(a, b):
-        return "within" if a <= v <= b else "consistent, within 2u, with"
-    if normal and hbond:
-        return head + (f"too uncertain to tell Trouton's rule ({lo:g}–{hi:g} J/(mol K)) from "
-                       f"the hydrogen-bonded range ({hlo:g}–{hhi:g}); a band counts when the "
-                       "value lies within 2u of it")
-    if normal:
-        return head + (f"{how(lo, hi)} Trouton's rule ({lo:g}–{hi:g} J/(mol K)), as for a "
-                       "liquid without hydrogen bonding")
-    if hbond:
-        return head + (f"above Trouton's rule and {how(hlo, hhi)} the hydrogen-bonded range "
-                       f"({hlo:g}–{hhi:g} J/(mol K)), as for water and alcohols")
-    return head + (f"more than 2u outside Trouton's rule ({lo:g}–{hi:g} J/(mol K)) and the "
-                   f"hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")
+    with np.errstate(invalid="ignore"):
+        normal = (lo - 2 * u <= v) & (v <= hi + 2 * u)
+        hbond = (hlo - 2 * u <= v) & (v <= hhi + 2 * u)
+        inside_n = (lo <= v) & (v <= hi)
+        inside_h = (hlo <= v) & (v <= hhi)
+    within, near = "within", "consistent, within 2u, with"
+    tails = (
+        f"too uncertain to tell Trouton's rule ({lo:g}–{hi:g} J/(mol K)) from the "
+        f"hydrogen-bonded range ({hlo:g}–{hhi:g}); a band counts when the value lies "
+        "within 2u of it",
+        f"{within} Trouton's rule ({lo:g}–{hi:g} J/(mol K)), as for a liquid without "
+        "hydrogen bonding",
+        f"{near} Trouton's rule ({lo:g}–{hi:g} J/(mol K)), as for a liquid without "
+        "hydrogen bonding",
+        f"above Trouton's rule and {within} the hydrogen-bonded range ({hlo:g}–{hhi:g} "
+        "J/(mol K)), as for water and alcohols",
+        f"above Trouton's rule and {near} the hydrogen-bonded range ({hlo:g}–{hhi:g} "
+        "J/(mol K)), as for water and alcohols",
+        f"more than 2u outside Trouton's rule ({lo:g}–{hi:g} J/(mol K)) and the "
+        f"hydrogen-bonded range ({hlo:g}–{hhi:g}); check the data")
+    case = np.select([normal & hbond, normal & inside_n, normal, hbond & inside_h, hbond],
+                     [0, 1, 2, 3, 4], 5)
+    finite = np.isfinite(v) & np.isfinite(u)
+    out = np.full(v.shape, "", dtype=object)
+    for idx, vi, ui, k in zip(np.flatnonzero(finite.ravel()), v[finite].tolist(),
+                              u[finite].tolist(), case[finite].tolist()):
+        out.flat[idx] = f"ΔS_vap = {D.value_u(vi, ui, 'J/(mol K)')} at T_b: {tails[k]}"
+    return str(out[()]) if scalar else out

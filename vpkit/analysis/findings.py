@@ -269,23 +269,26 @@ def _reference_checks(res, add, out, span) -> None:
         lambda r: (f"ΔH_vap differs from the reference ({res.resolved.compare_curve[r].label}) "
                    f"by {dev_u[r]:+.1f} u ({dev_pct[r]:+.1f} %), more than "
                    f"{lim['max_deviation_u']:g} u"))
-    bias, u_bias = res.bias_T_b_normal, res.u_bias_T_b_normal
-    bias_run = res.bias_T_b_run
+    # plain lists: most runs of a section get the extrapolation text, built per run
+    bias, u_bias = res.bias_T_b_normal.tolist(), res.u_bias_T_b_normal.tolist()
+    bias_run, bias_from = res.bias_T_b_run.tolist(), res.bias_from.tolist()
+    T_b, u_T_b = res.T_b_normal.tolist(), res.u_T_b_normal.tolist()
 
     def bias_note(b, r):
         return (f"; the model's own extrapolation bias there is {b[r]:+.2f} K (from the "
-                f"{res.bias_from[r]})" if np.isfinite(b[r]) else "")
+                f"{bias_from[r]})" if np.isfinite(b[r]) else "")
 
     add(np.abs(gap) > lim["max_boiling_gap_K"], "boiling point gap", ReferenceDeviationWarning,
         lambda r: (f"measured boiling point differs from the predicted one by {gap[r]:+.2f} K "
                    f"(more than {lim['max_boiling_gap_K']:g} K)" + bias_note(bias_run, r)))
     far = beyond > np.maximum(lim["extrapolation_K"], span)
-    biased = np.abs(bias) > res.u_T_b_normal
+    biased = np.abs(res.bias_T_b_normal) > res.u_T_b_normal
+    beyond_ = beyond.tolist()
     add(far | biased, "extrapolated T_b", ExtrapolationWarning, lambda r: (
-        f"the normal boiling point ({_t(res.T_b_normal[r])}) lies {beyond[r]:.1f} K beyond "
+        f"the normal boiling point ({_t(T_b[r])}) lies {beyond_[r]:.1f} K beyond "
         "the highest point: an extrapolation"
         + (f"; the model's own bias there, {D.value_u(bias[r], u_bias[r], 'K')} (from the "
-           f"{res.bias_from[r]}), exceeds u(T_b) = {D.uncertainty(res.u_T_b_normal[r], 'K')}"
+           f"{bias_from[r]}), exceeds u(T_b) = {D.uncertainty(u_T_b[r], 'K')}"
            if biased[r] else bias_note(bias, r))))
 
 
@@ -367,3 +370,14 @@ def flags_of(findings) -> tuple[str, str]:
     """(comma-separated flags, '; '-separated messages) of one run's findings."""
     flags = list(dict.fromkeys(x.flag for x in findings if x.flag))
     return ", ".join(flags), "; ".join(x.message for x in findings if x.flag)
+
+
+def flag_columns(findings, idx) -> tuple[np.ndarray, np.ndarray]:
+    """The ``flags`` and ``flag reasons`` columns of the runs ``idx`` (object arrays, ''
+    where a run has no flag): texts are joined only for runs that have findings."""
+    flags = np.full(len(idx), "", dtype=object)
+    reasons = np.full(len(idx), "", dtype=object)
+    for k, i in enumerate(np.asarray(idx).tolist()):
+        if findings[i]:
+            flags[k], reasons[k] = flags_of(findings[i])
+    return flags, reasons

@@ -14,7 +14,7 @@ import pandas as pd
 
 from ..constants import T_ZERO_C
 from .derived import trouton_verdict
-from .findings import flags_of
+from .findings import flag_columns
 
 
 def results_table(res, rows=None) -> pd.DataFrame:
@@ -40,21 +40,22 @@ def results_columns(res, rows=None) -> dict:
         T_boil = s.scalar["T_boil"][idx]
         beyond = res.T_b_normal[idx] - (t_max + T_ZERO_C)
         true, pub = res.true_enthalpy[idx], res.reference_true_enthalpy[idx]
-    curves = [res.resolved.compare_curve[i] for i in idx]
     from .budget import largest_share
 
     top_group, top_share = largest_share(res)
     all_ok = res.ok
     ok = all_ok[idx]
-    flags = [flags_of(res.findings[i]) for i in idx]
+    flags, reasons = flag_columns(res.findings, idx)
+    text = lambda a: np.asarray(a, dtype=object)[idx]  # noqa: E731
     data = {
-        "run_id": [s.run_ids[i] for i in idx],
-        "liquid": [s.liquid[i] for i in idx],
+        "run_id": text(s.run_ids),
+        "liquid": text(s.liquid),
         "model": f.model.name,
         "weighting": f.weighting,
-        "air amount from": [str(m) for m in np.broadcast_to(
-            np.asarray(res.resolved.setup.air_from, dtype=object), (s.R,))[idx]],
-        "p_vap at air reference": [str(res.resolved.vapor_mode[i]) for i in idx],
+        "air amount from": np.broadcast_to(
+            np.asarray(res.resolved.setup.air_from, dtype=str), (s.R,)).astype(object)[idx],
+        "p_vap at air reference": np.asarray(res.resolved.vapor_mode, dtype=str).astype(
+            object)[idx],
         "points used": np.where(ok, inc.sum(1), 0),
         "points total": s.n_points[idx],
         "T_min [degC]": t_min,
@@ -85,23 +86,23 @@ def results_columns(res, rows=None) -> dict:
         "ΔS_vap at T_b [J/(mol K)]": res.entropy[idx],
         "u(ΔS_vap) [J/(mol K)]": res.u_entropy[idx],
         "ΔH carried to T_b by": res.entropy_from[idx],
-        "Trouton": [trouton_verdict(res.entropy[i], res.u_entropy[i]) if all_ok[i] else ""
-                    for i in idx],
+        "Trouton": trouton_verdict(np.where(all_ok[idx], res.entropy[idx], np.nan),
+                                   res.u_entropy[idx]),
         "barometric pressure [kPa]": s.scalar["P_bar"][idx] / 1e3,
         "n_air [mmol]": res.n_air[idx] * 1e3,
         "p_vap at air reference [Pa]": res.p_ref[idx],
         "self-consistent rounds": res.self_consistent_rounds[idx],
         "measured T_b [degC]": T_boil - T_ZERO_C,
         "measured - predicted T_b [K]": T_boil - res.T_b_run[idx],
-        "reference": [cv.label if cv is not None else "" for cv in curves],
+        "reference": res.resolved.compare_curve.labels()[idx],
         "reference ΔH_vap at T_m [kJ/mol]": ref / 1e3,
         "reference chord ΔH_vap [kJ/mol]": c["chord"][idx] / 1e3,
         "deviation from reference [%]": 100 * (dH / ref - 1),
         "deviation from reference [u]": (dH - ref) / u,
         "reference T_b at 101.325 kPa [degC]": c["boiling"][idx] - T_ZERO_C,
-        "flags": [x[0] for x in flags],
-        "flag reasons": [x[1] for x in flags],
-        "status": ["" if res.errors[i] is None else str(res.errors[i]) for i in idx],
+        "flags": flags,
+        "flag reasons": reasons,
+        "status": text(["" if e is None else str(e) for e in res.errors]),
     }
     n = len(idx)
     out = {k: (np.full(n, v, dtype=object) if isinstance(v, str) else v) for k, v in data.items()}

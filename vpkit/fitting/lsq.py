@@ -67,11 +67,12 @@ def forward_solve(L: np.ndarray, B: np.ndarray) -> np.ndarray:
     """L^-1 B for lower-triangular L and B (..., N, k), by forward substitution.
 
     ``L`` is (B, N, N), one factor per problem, or (N, N), shared by all; a
-    shared factor is inverted once and applied as a matrix product.
+    shared factor is inverted once and applied as one broadcast matrix product (every
+    problem has the same N then, so no padding is summed over).
     """
     if L.ndim == 2:
         W = forward_solve(L[None], np.eye(L.shape[0])[None])[0]
-        return np.einsum("ij,...jk->...ik", W, B)
+        return W @ B
     X = np.empty(np.broadcast_shapes(L.shape[:-1], B.shape[:-1]) + B.shape[-1:])
     for i in range(L.shape[-1]):
         acc = B[..., i, :] - np.einsum("bj,bjk->bk", L[..., i, :i], X[..., :i, :])
@@ -83,21 +84,23 @@ def qr_mgs(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Thin QR of a stack (B, N, k) by modified Gram-Schmidt [1].
 
     Zero columns (rank deficiency) give a zero diagonal in R and a zero column
-    in Q rather than a division by zero.
+    in Q rather than a division by zero. Works on a copy laid out (k, N, B), so
+    that every column operation runs over contiguous vectors of the B problems;
+    sums over the points still run in index order (:func:`vpkit.arrays.psum`).
     """
-    Q = np.array(A, float)
-    k = Q.shape[-1]
-    Rm = np.zeros(Q.shape[:-2] + (k, k))
+    k = A.shape[-1]
+    Q = np.array(np.transpose(A, (2, 1, 0)), float, order="C")  # (k, N, B)
+    Rm = np.zeros((k, k, Q.shape[2]))
     for j in range(k):
-        norm = np.sqrt(psum(Q[..., j] * Q[..., j]))
-        Rm[..., j, j] = norm
+        norm = np.sqrt(psum(Q[j] * Q[j], axis=0))
+        Rm[j, j] = norm
         safe = np.where(norm > 0, norm, 1.0)
-        Q[..., j] = np.where(norm[:, None] > 0, Q[..., j] / safe[:, None], 0.0)
+        Q[j] = np.where(norm > 0, Q[j] / safe, 0.0)
         if j + 1 < k:
-            r = psum(Q[..., j, None] * Q[..., j + 1:], axis=-2)
-            Rm[..., j, j + 1:] = r
-            Q[..., j + 1:] -= Q[..., j, None] * r[..., None, :]
-    return Q, Rm
+            r = psum(Q[j] * Q[j + 1:], axis=1)  # (k - j - 1, B)
+            Rm[j, j + 1:] = r
+            Q[j + 1:] -= Q[j] * r[:, None]
+    return Q.transpose(2, 1, 0), Rm.transpose(2, 0, 1)
 
 
 def back_solve(Rm: np.ndarray, b: np.ndarray) -> np.ndarray:

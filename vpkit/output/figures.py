@@ -25,12 +25,16 @@ DH = r"$\Delta H_\mathrm{vap}$"
 TM = r"$T_\mathrm{m}$"
 
 
-def enthalpy_title(liquid: str, dH, T_m_text: str, sep: str = ": ") -> str:
+def enthalpy_title(liquid: str, dH, T_m_text: str, sep: str = ": ", math: bool = True) -> str:
     """'LIQUID: ΔH_vap = v ± u kJ/mol at T_m = ...' for a figure title (the report figure
-    and the live one); ``dH`` in J/mol with its uncertainty."""
-    return (f"{liquid}{sep}{DH} = "
+    and the live one); ``dH`` in J/mol with its uncertainty. ``math=False`` writes the
+    subscripts as Unicode characters instead of mathtext, for the live figure: a text
+    with mathtext is parsed again whenever a number in it changes (about 9 ms a toggle),
+    plain text is not (draw it with ``parse_math=False``)."""
+    dh, tm = (DH, TM) if math else ("ΔHᵥₐₚ", "Tₘ")
+    return (f"{liquid}{sep}{dh} = "
             f"{D.value_u(dH.nominal_value / 1e3, dH.std_dev / 1e3, 'kJ/mol')} at "
-            f"{TM} = {T_m_text}")
+            f"{tm} = {T_m_text}")
 
 
 def _style(width_mm: float) -> dict:

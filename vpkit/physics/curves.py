@@ -310,6 +310,10 @@ class CurveSet:
     def apparent_enthalpy(self, T):
         return self._apply("apparent_enthalpy", T)
 
+    def labels(self) -> np.ndarray:
+        """Each run's curve label ('' without a curve), an object array."""
+        return np.array([c.label for c in self.curves] + [""], dtype=object)[self.code]
+
     def bound(self, which: str) -> np.ndarray:
         values = np.array([getattr(c, which) for c in self.curves] + [np.nan])
         return values[self.code]

@@ -246,7 +246,10 @@ def _check_temperature_unit(s: RunStack, c: Columns, out: dict) -> None:
     and 200 degC, so bath values all below 150 labelled K, or all above 200
     labelled degC, are the other unit.
     """
-    units = np.array([normalize_unit(u) for u in c.T_unit], dtype=object)
+    raw_units = np.asarray(c.T_unit, dtype=object)
+    units = np.empty(len(raw_units), dtype=object)
+    for u in set(raw_units.tolist()):  # a loop over the few distinct unit texts
+        units[raw_units == u] = normalize_unit(u)
     for unit, limit in (("K", 150.0), ("degC", 200.0)):
         rows = np.flatnonzero((units == unit) & s.mask.any(axis=1))
         if not rows.size:

@@ -86,3 +86,14 @@ def test_trouton_bands(v, u, word):
     assert word in trouton_verdict(v, u)
     assert trouton_verdict(float("nan"), 1.0) == ""
     assert "within Trouton" not in trouton_verdict(72.7, 5.9)
+
+
+def test_trouton_verdict_batched_equals_one_at_a_time():
+    """The table's column is the same function on arrays: equal, value by value, to the
+    scalar calls (bands as stated in vpkit.analysis.derived; common practice, no source)."""
+    v = np.array([86.0, 92.2, 110.0, 97.5, 70.0, 97.0, 72.7, np.nan, 101.0])
+    u = np.array([1.0, 0.5, 2.0, 0.5, 1.0, 3.0, 5.9, 1.0, np.nan])
+    many = trouton_verdict(v, u)
+    assert many.shape == v.shape and many.dtype == object
+    assert list(many) == [trouton_verdict(float(x), float(y)) for x, y in zip(v, u)]
+    assert many[7] == "" and many[8] == "" and "within Trouton" in many[0]

@@ -121,3 +121,13 @@ def test_an_exclusion_in_the_record_without_a_reason_is_named():
     assert w.startswith("1 point (1) is excluded without a reason")
     ok = vpkit.analyze(run.with_include(run.include, ["thermometer"] * 8), warn=False)
     assert not any("without a reason" in w for w in ok.warnings)
+
+
+def test_flag_columns_join_only_the_runs_with_findings():
+    from vpkit.analysis.findings import flag_columns
+
+    res = vpkit.analyze(make_run("ethanol", (30, 32, 34)), warn=False).result
+    findings = (res.findings[0], (), res.findings[0])
+    flags, reasons = flag_columns(findings, [2, 1, 0])
+    assert list(flags) == [flags_of(res.findings[0])[0], "", flags_of(res.findings[0])[0]]
+    assert reasons[1] == "" and "only 3 points" in reasons[0]

@@ -82,3 +82,16 @@ def test_symbols_in_figure_text_are_set_as_subscripts():
     assert r"$\Delta H_\mathrm{vap}$ = " in title and r"$T_\mathrm{m}$ = " in title
     outside_math = [re.sub(r"\$[^$]*\$", "", t) for t in texts]
     assert not any("_vap" in t or "T_m" in t for t in outside_math), texts
+
+
+def test_live_title_needs_no_mathtext_parse():
+    """The live figure's title changes with every toggle: its subscripts are Unicode
+    characters (no '$'), so matplotlib does not parse mathtext again on each change."""
+    from vpkit.output.figures import enthalpy_title
+
+    a = vpkit.analyze(make_run("ethanol", noise=NOISE, rng=np.random.default_rng(3)))
+    plain = enthalpy_title("ethanol", a.enthalpy, "318.2 K", math=False)
+    assert "$" not in plain and "ΔHᵥₐₚ = " in plain and "Tₘ = 318.2 K" in plain
+    assert plain.replace("ΔHᵥₐₚ", "").replace("Tₘ", "") == enthalpy_title(
+        "ethanol", a.enthalpy, "318.2 K").replace(r"$\Delta H_\mathrm{vap}$", "").replace(
+        r"$T_\mathrm{m}$", "")

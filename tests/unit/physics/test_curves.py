@@ -47,3 +47,11 @@ def test_auto_reference_per_liquid():
     assert has_source("2-propanol", "ppds") and not has_source("ethanol", "ppds")
     with pytest.raises(InputError, match="no bundled PPDS"):
         reference_curve("ethanol", "ppds")
+
+
+def test_curve_set_labels_per_run():
+    from vpkit.physics.curves import CurveSet, antoine_curve, reference_curve
+
+    a, w = antoine_curve("ethanol"), reference_curve("water")
+    labels = CurveSet([a, None, w, a]).labels()
+    assert list(labels) == [a.label, "", w.label, a.label]
