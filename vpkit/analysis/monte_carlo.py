@@ -56,8 +56,8 @@ class MonteCarloResult:
 
 
 #: Draws per block: the whole chain runs on arrays of at most this many draws at a time,
-#: so memory stays bounded (250 MiB at the peak for one full block of an 8-point run) however many draws are
-#: asked for. Smaller blocks were not faster in fresh processes (measured on 2 cores).
+#: so memory stays bounded however many draws are asked for (250 MiB at the peak for a
+#: full block of an 8-point run). Smaller blocks were not faster in fresh processes.
 BLOCK = 131_072
 
 
