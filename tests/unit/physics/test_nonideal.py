@@ -55,3 +55,24 @@ def test_unknown_liquids_get_nan_and_runs_share_one_call_per_liquid():
     dz, u = delta_z_runs(["water", "unobtainium", "H2O"], [313.15, 313.15, 313.15],
                          [7384.0, 7384.0, 7384.0])
     assert math.isnan(dz[1]) and dz[0] == dz[2] and np.isfinite(u[[0, 2]]).all()
+
+
+def test_associating_vapor_takes_dz_from_the_saturation_table_by_linear_interpolation():
+    """Methanol: Δz = z'' - z' interpolated by hand between the two bundled rows around T
+    (the table itself is checked against CoolProp in tests/reference/test_nonideal.py);
+    u = 10 % of 1 - z''; the run's own p does not enter."""
+    from vpkit.physics.nonideal import Z_TABLE_RELATIVE_U, saturation_z_table
+
+    tab = saturation_z_table()
+    rows = tab[tab["liquid"] == "methanol"].set_index("T [K]")
+    T = 321.2
+    lo, hi = rows.loc[321.0], rows.loc[321.5]
+    w = (T - 321.0) / 0.5
+    z_v = (1 - w) * lo["z_vapor"] + w * hi["z_vapor"]
+    z_l = (1 - w) * lo["z_liquid"] + w * hi["z_liquid"]
+    for p in (3e4, 5e4):
+        dz, u = delta_z("MeOH", T, p)
+        assert dz == pytest.approx(z_v - z_l, rel=1e-14)
+        assert u == pytest.approx(Z_TABLE_RELATIVE_U * (1 - z_v), rel=1e-12)
+    assert Z_TABLE_RELATIVE_U == 0.10
+    assert not (saturation_z_table()["liquid"] == "water").any()  # water keeps its B
