@@ -56,9 +56,10 @@ class MonteCarloResult:
 
 
 #: Draws per block: the whole chain runs on arrays of at most this many draws at a time,
-#: so memory stays bounded however many draws are asked for (250 MiB at the peak for a
-#: full block of an 8-point run). Smaller blocks were not faster in fresh processes.
-BLOCK = 131_072
+#: so memory stays bounded however many draws are asked for. Measured on 100,000 draws of
+#: an 8-point run (2-core machine): 234 ms in blocks of 131,072, 173 ms in blocks of 8,192
+#: (the arrays of a block stay in the processor's cache), 170 ms in blocks of 4,096.
+BLOCK = 8_192
 
 
 def monte_carlo(a, draws: int, seed: int, inputs=None) -> MonteCarloResult:
@@ -90,7 +91,15 @@ def _block(a, rng, sigma, draws: int) -> np.ndarray:
     """ΔH_vap of ``draws`` draws (NaN where a draw has an impossible point or no fit)."""
     res, r = a.result, a.index
     lay = res.layout
-    U = lay.nominal[r] + rng.standard_normal((draws, lay.nominal.shape[1])) * sigma
+    # one normal deviate per uncertain input and draw (inputs with u = 0 stay at their value)
+    drawn = np.flatnonzero(sigma > 0)
+    Z = rng.standard_normal((draws, drawn.size)) * sigma[drawn]
+    U = np.array(np.broadcast_to(lay.nominal[r], (draws, lay.nominal.shape[1])))
+    # added span by span of consecutive inputs (views, no fancy indexing)
+    cuts = np.flatnonzero(np.diff(drawn) != 1) + 1
+    for lo, hi in zip(np.r_[0, cuts], np.r_[cuts, drawn.size]):
+        if hi > lo:
+            U[:, drawn[lo]:drawn[hi - 1] + 1] += Z[:, lo:hi]
     layout = InputLayout(lay.N, U, np.broadcast_to(lay.sigma[r], U.shape))
     rows = np.zeros(draws, int) + r
     setup = setup_rows(res.resolved.setup, rows)

@@ -113,7 +113,7 @@ def _implicit_correction(J, J_pref, fit: StackFit, choices, layout, setup, nomin
     W = lsq.forward_solve(fit.chol, np.broadcast_to(np.eye(N), fit.chol.shape))
     fac = lsq.lstsq(pmatmul(W, X), np.zeros(T.shape))
     QtW = pmatmul(np.swapaxes(fac["Q"], -1, -2), W)
-    S = np.stack([lsq.back_solve(fac["R"], QtW[..., k]) for k in range(N)], axis=-1)
+    S = lsq.back_solve(fac["R"], QtW)
     dfdT = np.where(mask, m.df_dT(T, th), 0.0)
     dth = pmatmul(S, J)
     dth[..., :N] -= S * dfdT[:, None, :]  # the T rows of the Jacobian are selectors

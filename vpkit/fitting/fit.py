@@ -54,7 +54,7 @@ from scipy import stats
 from ..arrays import pmatmul, psum, readonly
 from ..errors import FitError
 from . import lsq
-from .influence import leave_one_out_enthalpy, weighted_temperature
+from .influence import leave_one_out_enthalpy, weighted_temperature, whitening
 from .models import Model, get_model
 from .results import FitResult, StackFit
 from .solve import (
@@ -79,8 +79,11 @@ def _chi2_limit(dof: int, level: float = 0.95) -> float:
 
 
 def chi2_limits(dof: np.ndarray, level: float = 0.95) -> np.ndarray:
-    return np.array([_chi2_limit(int(d), level) if d > 0 else np.inf for d in np.ravel(dof)]
-                    ).reshape(np.shape(dof))
+    """:func:`_chi2_limit` of every entry of ``dof`` (inf where dof ≤ 0), once per value."""
+    d = np.asarray(dof).astype(int)
+    values, where = np.unique(d, return_inverse=True)
+    lim = np.array([_chi2_limit(int(v), level) if v > 0 else np.inf for v in values])
+    return lim[where.reshape(d.shape)] if values.size else np.full(d.shape, np.inf)
 
 
 def fit_stack(model: str | Model, T, y, mask=None, *, weighting: str = "gls", cov_y=None,
@@ -304,8 +307,9 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     cov0 = Rinv @ np.swapaxes(Rinv, -1, -2)
     chi2[g] = psum(rw[g] * rw[g])
     method = "gls" if weighting == "gls" else ("sandwich" if full is not None else "scatter")
+    W = whitening(L)
     if method == "sandwich":
-        cov0, chi2, C = _sandwich(m, space, full, Tsafe, ysafe, mask, thg, L, fac, Rinv, status,
+        cov0, chi2, C = _sandwich(m, space, full, Tsafe, ysafe, mask, thg, W, fac, Rinv, status,
                                   good)
         g = np.flatnonzero(good)
     with np.errstate(all="ignore"):
@@ -326,7 +330,7 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
             norm = res / np.sqrt(chi2_red)[:, None]
         else:
             norm = res / np.sqrt(np.einsum("bii->bi", C))
-        T_w = weighted_temperature(L, Tsafe, mask)
+        T_w = weighted_temperature(L, Tsafe, mask, W)
         # ΔH refers to a temperature inside the points used: correlated GLS weights of
         # mixed sign can put the weights' own T_m beyond them; then the nearest end
         T_m = np.clip(T_w, np.where(mask, Tsafe, np.inf).min(axis=1),
@@ -335,7 +339,7 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
     res = np.where(np.isfinite(T), res, np.nan)
     if influence:
         loo = leave_one_out_enthalpy(m, weighting, space, Tsafe, ysafe, mask, L, thg, fac, rw, T_m,
-                             good & (n - 1 >= p) & (n >= 3))
+                                     good & (n - 1 >= p) & (n >= 3), W)
     ill = np.zeros(Rn, bool)
     if m.curvature_index is not None:
         curv, sd = m.curvature(thg, cov)
@@ -354,7 +358,7 @@ def _finish(m, weighting, space, T, y, mask, Tsafe, ysafe, th, L, C, status, inf
                     tuple(status), ro(ill), method, T_m_weights=ro(T_w))
 
 
-def _sandwich(m, space, full, T, y, mask, th, L, fac, Rinv, status, good):
+def _sandwich(m, space, full, T, y, mask, th, W, fac, Rinv, status, good):
     """M C M^T and the χ² against the full covariance C, for non-GLS weights [7].
 
     The χ² that decides the scaling is that of the GLS line for C (the smallest
@@ -367,7 +371,6 @@ def _sandwich(m, space, full, T, y, mask, th, L, fac, Rinv, status, good):
     for r in np.flatnonzero(good & ~ok):
         status[r] = NOT_PD
     good &= ok
-    W = lsq.forward_solve(L, np.broadcast_to(np.eye(N), L.shape))
     M = pmatmul(Rinv, pmatmul(np.swapaxes(fac["Q"], -1, -2), W))  # θ = M y
     cov = pmatmul(pmatmul(M, Cm), np.swapaxes(M, -1, -2))
     # χ² of the best (GLS) line for C, linearised at θ: the scatter test must not count

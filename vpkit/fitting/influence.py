@@ -15,7 +15,12 @@ from . import lsq
 from .solve import _levenberg_marquardt
 
 
-def weighted_temperature(L, T, mask) -> np.ndarray:
+def whitening(L) -> np.ndarray:
+    """W = L^-1 of a stack of lower Cholesky factors (B, N, N): the whitening matrix."""
+    return lsq.forward_solve(L, np.broadcast_to(np.eye(L.shape[-1]), L.shape))
+
+
+def weighted_temperature(L, T, mask, W=None) -> np.ndarray:
     """T_m = 1/x_eff: where the fitted slope of ln p against x = 1/T is the true slope [K].
 
     A straight line fitted with the fit's weights (precision P = C^-1, via its
@@ -24,12 +29,12 @@ def weighted_temperature(L, T, mask) -> np.ndarray:
     slope is y1 + y2 (g^T x^2 / 2 - x0), the true slope at x_eff = g^T x^2 / 2
     (exactly, to second order; independent of x0). For ``ordinary`` weights
     x_eff is near the plain mean of 1/T; GLS weights favour the hot points and
-    move it up in T. ΔH_vap is reported, and compared, at this T_m.
+    move it up in T. ΔH_vap is reported, and compared, at this T_m. ``W``, if given,
+    is :func:`whitening` of ``L``.
     """
-    N = T.shape[-1]
     x = np.where(mask, 1.0 / T, 0.0)
     X = np.stack([np.where(mask, 1.0, 0.0), x], axis=-1)
-    W = lsq.forward_solve(L, np.broadcast_to(np.eye(N), L.shape))
+    W = whitening(L) if W is None else W
     fac = lsq.lstsq(pmatmul(W, X), np.zeros(T.shape))
     g = _slope_row(fac, W)
     return 1.0 / (0.5 * psum(g * x * x))
@@ -42,16 +47,17 @@ def _slope_row(fac, W) -> np.ndarray:
     return QtW[..., 1, :] / Rm[..., 1, 1, None]
 
 
-def leave_one_out_enthalpy(m, weighting, space, T, y, mask, L, th, fac, rw, T_m, use):
-    """ΔH_vap at T_m with each point left out, keeping the full fit's covariance."""
+def leave_one_out_enthalpy(m, weighting, space, T, y, mask, L, th, fac, rw, T_m, use, W=None):
+    """ΔH_vap at T_m with each point left out, keeping the full fit's covariance
+    (``W``: :func:`whitening` of ``L``, if already at hand)."""
     Rn, N = T.shape
     out = np.full((Rn, N), np.nan)
     u = np.flatnonzero(use)
     if u.size == 0:
         return out
     if m.linear and space == "ln_p":
-        W = lsq.forward_solve(L[u], np.broadcast_to(np.eye(N), (u.size, N, N)))
-        dth = lsq.leave_one_out(fac["Q"][u], fac["R"][u], W, rw[u], mask[u])
+        Wu = whitening(L[u]) if W is None else W[u]
+        dth = lsq.leave_one_out(fac["Q"][u], fac["R"][u], Wu, rw[u], mask[u])
         thk = th[u][:, None, :] + dth
         out[u] = m.enthalpy(T_m[u][:, None], thk)
         return out

@@ -88,26 +88,40 @@ def qr_mgs(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     that every column operation runs over contiguous vectors of the B problems;
     sums over the points still run in index order (:func:`vpkit.arrays.psum`).
     """
-    k = A.shape[-1]
     Q = np.array(np.transpose(A, (2, 1, 0)), float, order="C")  # (k, N, B)
+    Rm = _mgs_columns(Q)
+    return Q.transpose(2, 1, 0), Rm.transpose(2, 0, 1)
+
+
+def _mgs_columns(Q: np.ndarray) -> np.ndarray:
+    """Modified Gram-Schmidt in place on columns laid out (k, N, B); returns R (k, k, B)."""
+    k = Q.shape[0]
     Rm = np.zeros((k, k, Q.shape[2]))
     for j in range(k):
         norm = np.sqrt(psum(Q[j] * Q[j], axis=0))
         Rm[j, j] = norm
-        safe = np.where(norm > 0, norm, 1.0)
-        Q[j] = np.where(norm > 0, Q[j] / safe, 0.0)
+        pos = norm > 0
+        np.divide(Q[j], np.where(pos, norm, 1.0), out=Q[j])
+        if not pos.all():
+            Q[j][:, ~pos] = 0.0
         if j + 1 < k:
             r = psum(Q[j] * Q[j + 1:], axis=1)  # (k - j - 1, B)
             Rm[j, j + 1:] = r
             Q[j + 1:] -= Q[j] * r[:, None]
-    return Q.transpose(2, 1, 0), Rm.transpose(2, 0, 1)
+    return Rm
 
 
 def back_solve(Rm: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Rm^-1 b for upper-triangular Rm (B, p, p) and b (B, p)."""
+    """Rm^-1 b for upper-triangular Rm (B, p, p) and b (B, p), or (B, p, k) for k
+    right-hand sides at once (each column as it would be alone)."""
     p = Rm.shape[-1]
     x = np.zeros(b.shape)
     with np.errstate(divide="ignore", invalid="ignore"):
+        if b.ndim == Rm.ndim:  # several right-hand sides: one pass over the p rows
+            for i in range(p - 1, -1, -1):
+                x[..., i, :] = (b[..., i, :] - np.einsum("bj,bjk->bk", Rm[..., i, i + 1:],
+                                                         x[..., i + 1:, :])) / Rm[..., i, i, None]
+            return x
         for i in range(p - 1, -1, -1):
             x[..., i] = (b[..., i] - np.einsum("bj,bj->b", Rm[..., i, i + 1:], x[..., i + 1:])
                          ) / Rm[..., i, i]
@@ -116,9 +130,7 @@ def back_solve(Rm: np.ndarray, b: np.ndarray) -> np.ndarray:
 
 def upper_inverse(Rm: np.ndarray) -> np.ndarray:
     """Inverse of upper-triangular matrices (B, p, p)."""
-    p = Rm.shape[-1]
-    eye = np.broadcast_to(np.eye(p), Rm.shape)
-    return np.stack([back_solve(Rm, eye[..., :, j]) for j in range(p)], axis=-1)
+    return back_solve(Rm, np.broadcast_to(np.eye(Rm.shape[-1]), Rm.shape))
 
 
 def lstsq(X: np.ndarray, y: np.ndarray) -> dict:
@@ -136,8 +148,13 @@ def lstsq(X: np.ndarray, y: np.ndarray) -> dict:
     """
     s = np.sqrt(psum(X * X, axis=-2))
     s = np.where(s > 0, s, 1.0)
-    Q, Ra = qr_mgs(np.concatenate([X / s[:, None, :], y[..., None]], axis=-1))
-    p = X.shape[-1]
+    B, N, p = X.shape
+    Qw = np.empty((p + 1, N, B))  # [X / s | y], laid out for the column operations
+    Qw[:p] = np.transpose(X, (2, 1, 0))
+    Qw[:p] /= s.T[:, None, :]
+    Qw[p] = y.T
+    Ra = _mgs_columns(Qw).transpose(2, 0, 1)
+    Q = Qw.transpose(2, 1, 0)
     Rs = Ra[:, :p, :p]
     qty = Ra[:, :p, p]
     diag = np.abs(np.einsum("bii->bi", Rs))
@@ -186,5 +203,5 @@ def leave_one_out(Q: np.ndarray, Rm: np.ndarray, W: np.ndarray, rw: np.ndarray,
     with np.errstate(divide="ignore", invalid="ignore"):
         delta = num / den
         ok = mask & (den > 1e-12 * ww)
-        shift = np.stack([back_solve(Rm, G[:, :, k]) for k in range(W.shape[-1])], axis=1)
+        shift = np.swapaxes(back_solve(Rm, G), -1, -2)
     return np.where(ok[..., None], -shift * delta[..., None], np.nan)

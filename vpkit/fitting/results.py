@@ -122,13 +122,19 @@ class StackFit:
         return self.model.enthalpy(T, self.params), quad(g, self.cov), g
 
     def boiling_point(self, P=P_STANDARD):
-        """Where each fitted curve reaches P [Pa]: (T_b, u, dT_b/dθ, dT_b/d ln P)."""
-        ln_P = np.log(np.broadcast_to(np.asarray(P, float), self.T_m.shape))
-        Tb = self.model.solve_T(ln_P, self.params, self.T_m)
-        with np.errstate(all="ignore"):
-            dfdT = self.model.df_dT(Tb, self.params)
-            g = -self.model.jac(Tb, self.params) / dfdT[..., None]
-        return Tb, quad(g, self.cov), g, 1.0 / dfdT
+        """Where each fitted curve reaches P [Pa]: (T_b, u, dT_b/dθ, dT_b/d ln P).
+
+        Computed once per pressure (the fit is frozen; the arrays are read-only)."""
+        P = np.broadcast_to(np.asarray(P, float), self.T_m.shape)
+        key = P.tobytes()
+        cache = self.__dict__.setdefault("_boiling_cache", {})
+        if key not in cache:
+            Tb = self.model.solve_T(np.log(P), self.params, self.T_m)
+            with np.errstate(all="ignore"):
+                dfdT = self.model.df_dT(Tb, self.params)
+                g = -self.model.jac(Tb, self.params) / dfdT[..., None]
+            cache[key] = tuple(readonly(a) for a in (Tb, quad(g, self.cov), g, 1.0 / dfdT))
+        return cache[key]
 
     def curvature_text(self, r: int) -> str:
         m = self.model

@@ -120,13 +120,17 @@ def _solve_nonlinear(m, T, y, mask, L, th0, space, starts, max_iter=400):
     return best, ok
 
 
-def _status(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> list[str]:
-    """Why each data set cannot be fitted ("" where it can)."""
-    p = m.n_params
+def _fittable(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    """Which data sets can be fitted: enough points, every included ln p finite."""
     with np.errstate(invalid="ignore"):
-        bad_y = np.any(mask & ~np.isfinite(y), axis=1)
+        return (n >= m.n_params) & ~np.any(mask & ~np.isfinite(y), axis=1)
+
+
+def _status(m: Model, n: np.ndarray, y: np.ndarray, mask: np.ndarray) -> list[str]:
+    """Why each data set cannot be fitted ("" where it can; texts built only for those)."""
+    p = m.n_params
     out = [""] * len(n)
-    for r in np.flatnonzero((n < p) | bad_y):
+    for r in np.flatnonzero(~_fittable(m, n, y, mask)):
         if n[r] == 0:
             out[r] = f"every point is excluded: include at least {p} points to fit {m.label}"
         elif n[r] < p:
@@ -162,7 +166,7 @@ def solve_stack(model: str | Model, T, y, mask, chol, *, space: str = "ln_p", st
     T = np.atleast_2d(np.asarray(T, float))
     y = np.atleast_2d(np.asarray(y, float))
     mask = np.broadcast_to(np.asarray(mask, bool), T.shape) & np.isfinite(T)
-    ok = np.array([s == "" for s in _status(m, mask.sum(axis=1), y, mask)])
+    ok = _fittable(m, mask.sum(axis=1), y, mask)
     Tsafe = np.where(mask, T, 300.0)
     ysafe = np.where(mask & np.isfinite(y), y, 0.0)
     L = np.asarray(chol, float)

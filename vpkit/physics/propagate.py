@@ -194,7 +194,8 @@ def jacobian(layout: InputLayout, setup: ReductionSetup, p_ref: ReferenceAtAir,
             d[:, j] = h[:, j]
             dirs.append(("scalar", j, d))
     K = 2 * len(dirs) + 1
-    U = np.repeat(layout.nominal[:, None, :], K, axis=1)
+    U = np.empty((R, K, m))
+    U[...] = layout.nominal[:, None, :]
     for q, (_, _, d) in enumerate(dirs):
         U[:, 2 * q] += d
         U[:, 2 * q + 1] -= d
@@ -217,7 +218,8 @@ def jacobian(layout: InputLayout, setup: ReductionSetup, p_ref: ReferenceAtAir,
     nominal = {key: v[:, -1] for key, v in out.items()}
     # derivative in p_ref (for the self-consistent air amount)
     hp = np.maximum(np.abs(p_ref.values(nominal["T_ref"])) * 1e-6, 1e-3)
-    U2 = np.repeat(layout.nominal[:, None, :], 2, axis=1)
+    U2 = np.empty((R, 2, m))
+    U2[...] = layout.nominal[:, None, :]
     two = evaluate(layout, setup, U2, p_ref, np.stack([hp, -hp], axis=1))
     with np.errstate(invalid="ignore", divide="ignore"):
         lp = np.log(two["p_vap"])
