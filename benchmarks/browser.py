@@ -110,6 +110,25 @@ class VoilaServer:
 CANVAS = "canvas"
 _SNAPSHOT = """() => Array.from(document.querySelectorAll('canvas'))
     .map(c => { try { return c.toDataURL(); } catch (e) { return ''; } }).join('|')"""
+#: Page-side clocks (performance.now(), the base of event.timeStamp): when a click event
+#: reached the page, when a script last drew into a canvas (the figure's new frame arrives
+#: as an image drawn with drawImage) and the start of the next animation frame after that
+#: draw (the frame that shows it). Installed before the page loads.
+_CLOCKS = """(() => {
+  window.__vpkit = {click: -1, drawn: -1, painted: -1};
+  document.addEventListener('click', e => { window.__vpkit.click = e.timeStamp; }, true);
+  const wrap = (proto, name) => {
+    const f = proto[name];
+    proto[name] = function (...args) {
+      const t = performance.now();
+      window.__vpkit.drawn = t;
+      requestAnimationFrame(f2 => { if (window.__vpkit.drawn === t) window.__vpkit.painted = f2; });
+      return f.apply(this, args);
+    };
+  };
+  wrap(CanvasRenderingContext2D.prototype, 'drawImage');
+  wrap(CanvasRenderingContext2D.prototype, 'putImageData');
+})();"""
 
 
 def _enthalpy(page) -> tuple[str, str]:
@@ -123,9 +142,14 @@ def _enthalpy(page) -> tuple[str, str]:
 def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
     """Open the page, toggle ``point`` by its checkbox ``clicks`` times, measure.
 
-    Returns the ΔH_vap readouts (text) before and after the first toggle, the
-    click -> readout and click -> repainted-canvas times [ms], and the
-    screenshot path.
+    Returns the ΔH_vap readouts (text) before and after the first toggle and, per click:
+    ``repaint_ms``, from the click event in the page to the animation frame that shows
+    the figure's new frame (drawn into the canvas), both on the page's own clock, which
+    is the latency a user sees; ``readout_ms``, from the click call to the readout text
+    changing; and ``driver_repaint_ms``, from Playwright's click() call to that frame
+    (which adds Playwright's own checks before it clicks, about 35 ms: it waits for the
+    element to stay still over two animation frames). Every click must change the figure's
+    pixels (checked after its timing). Also the screenshot path.
     """
     from playwright.sync_api import sync_playwright
 
@@ -134,6 +158,7 @@ def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
     with VoilaServer(out_dir / "served") as server, sync_playwright() as pw:
         browser = pw.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
         page = browser.new_page(viewport={"width": 1400, "height": 1800})
+        page.add_init_script(_CLOCKS)
         page.set_default_timeout(60_000)
         page.goto(server.url, timeout=60_000)
         page.wait_for_function("() => document.body.innerText.includes('kJ/mol')",
@@ -145,7 +170,7 @@ def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
         box.wait_for()
         page.wait_for_timeout(1500)  # let the first frames arrive
         before = _enthalpy(page)
-        readout_ms, repaint_ms = [], []
+        readout_ms, repaint_ms, driver_ms = [], [], []
         after = None
         for k in range(clicks):
             snap = page.evaluate(_SNAPSHOT)
@@ -157,18 +182,24 @@ def run_session(out_dir: Path, point: int = 2, clicks: int = 5) -> dict:
                 " return m && m[1] + ' ± ' + m[2] !== old; }",
                 arg=[ENTHALPY.pattern, " ± ".join(text0)], polling="raf")
             t1 = time.perf_counter()
-            page.wait_for_function(f"(old) => ({_SNAPSHOT})() !== old", arg=snap,
+            page.wait_for_function("() => window.__vpkit.painted > window.__vpkit.click",
                                    polling="raf")
             t2 = time.perf_counter()
+            clock = page.evaluate("() => window.__vpkit")
+            # the figure did change (checked after the timing: encoding every canvas on
+            # every animation frame would slow the page it measures)
+            page.wait_for_function(f"(old) => ({_SNAPSHOT})() !== old", arg=snap)
             readout_ms.append(1e3 * (t1 - t0))
-            repaint_ms.append(1e3 * (t2 - t0))
+            driver_ms.append(1e3 * (t2 - t0))
+            repaint_ms.append(clock["painted"] - clock["click"])
             if k == 0:
                 after = _enthalpy(page)
                 shot = out_dir / "explorer_after_toggle.png"
                 page.screenshot(path=str(shot), full_page=True)
+            page.wait_for_timeout(300)  # the kernel finishes the table before the next click
         browser.close()
     return {"before": before, "after": after, "readout_ms": readout_ms,
-            "repaint_ms": repaint_ms, "screenshot": shot}
+            "repaint_ms": repaint_ms, "driver_repaint_ms": driver_ms, "screenshot": shot}
 
 
 def measure_click_to_repaint(out_dir: Path) -> tuple[str, float | None]:
@@ -179,9 +210,10 @@ def measure_click_to_repaint(out_dir: Path) -> tuple[str, float | None]:
         return f"skipped: {why}", None
     r = run_session(out_dir, clicks=9)
     repaint = statistics.median(r["repaint_ms"])
-    return (f"click -> readout median {statistics.median(r['readout_ms']):.0f} ms, "
-            f"click -> repainted canvas median {repaint:.0f} ms "
-            f"(target < 100 ms) over {len(r['repaint_ms'])} clicks; screenshot "
+    return (f"click event -> frame showing the new figure, median {repaint:.0f} ms (target "
+            f"< 100 ms) over {len(r['repaint_ms'])} clicks, on the page's clock; from "
+            f"Playwright's click() call: readout {statistics.median(r['readout_ms']):.0f} ms, "
+            f"new figure {statistics.median(r['driver_repaint_ms']):.0f} ms; screenshot "
             f"{r['screenshot']}"), repaint
 
 

@@ -8,6 +8,7 @@ time the same run is explored.
 
 from __future__ import annotations
 
+import asyncio
 import html
 import time
 from dataclasses import replace
@@ -224,11 +225,41 @@ class RunPanel:
         if self.figure.kind == "agg":
             self._image.value = self.figure.png()
         t3 = time.perf_counter()
-        self.points.render(a, self.run, self._t, self._p)  # last: readouts and figure first
-        self.w_budget.value = budget_html(a)
-        self.timings = {"analyze": t1 - t0, "readouts": t2 - t1, "figure": t3 - t2,
-                        "table": time.perf_counter() - t3}
+        self.timings = {"analyze": t1 - t0, "readouts": t2 - t1, "figure": t3 - t2}
+        if not self._later(self._render_table):  # last: readouts and figure first
+            self._render_table()
         self._save()
+
+    #: With a live canvas in a kernel, the points table and budget bars are rendered this
+    #: long after a change [s], so that the figure's new frame is drawn in the browser
+    #: before their messages arrive (measured: 10 row updates arriving with the frame held
+    #: its drawing back by 10-20 ms).
+    TABLE_DELAY = 0.04
+
+    def _later(self, render) -> bool:
+        """Schedule ``render`` on the kernel's running event loop (once for several quick
+        changes); False where there is none (plain Python, a static canvas)."""
+        if self.figure.kind != "ipympl":
+            return False
+        try:
+            loop = asyncio.get_running_loop()
+        except RuntimeError:
+            return False
+        if not getattr(self, "_table_pending", False):
+            self._table_pending = True
+            loop.call_later(self.TABLE_DELAY, render)
+        return True
+
+    def _render_table(self) -> None:
+        """The points table and the budget bars of the current analysis."""
+        self._table_pending = False
+        a = self.analysis
+        if a is None:
+            return
+        t0 = time.perf_counter()
+        self.points.render(a, self.run, self._t, self._p)
+        self.w_budget.value = budget_html(a)
+        self.timings["table"] = time.perf_counter() - t0
 
     # -- numbers for display: SI from the result, text from vpkit.display ----------
     def _p(self, pa: float, u: float | None = None) -> str:
